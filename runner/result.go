@@ -1,0 +1,142 @@
+package runner
+
+import (
+	"encoding/json"
+	"math"
+	"strconv"
+)
+
+// Schema names the version of the result.json layout. Bump it on any change
+// a reader could notice.
+const Schema = "riskgrid.result/1"
+
+// Result is the artifact of one run: everything needed to re-render its
+// tables without refitting. It holds nothing that varies between two runs of
+// the same spec on the same build (timings live in Timing), so result.json is
+// byte-identical for any -j.
+type Result struct {
+	Schema   string `json:"schema"`
+	Engine   string `json:"engine"`   // engine version salt (spec.Engine)
+	Go       string `json:"go"`       // runtime.Version() of the build
+	Platform string `json:"platform"` // GOOS/GOARCH
+	Name     string `json:"name"`
+	About    string `json:"about,omitempty"`
+	Hash     string `json:"hash"`      // spec hash, hex SHA-256
+	SpecTOML string `json:"spec_toml"` // the resolved spec, canonical TOML
+	Param    string `json:"param"`     // grid knob
+	Seeds    int    `json:"seeds"`     // seeds requested
+	NTrain   int    `json:"n_train"`   // training-set size (largest, for an n_train grid)
+
+	// RiskBasis says how Risk was measured: RiskExact or RiskTestSet.
+	RiskBasis string `json:"risk_basis"`
+	// SplitBasis says how bias² and variance were measured: SplitExact,
+	// SplitTestInputs or SplitLumped (bias² includes the noise).
+	SplitBasis string `json:"split_basis"`
+	// TestPoints is the number of test inputs the test-set quantities use
+	// (0 when everything is exact).
+	TestPoints int `json:"test_points"`
+	// TruthPerSeed is true when β is redrawn for every seed; bias² is then
+	// measured against each seed's own truth.
+	TruthPerSeed bool `json:"truth_per_seed"`
+
+	Models []ModelResult `json:"models"`
+}
+
+// Risk and split bases.
+const (
+	RiskExact       = "exact"      // R(b) = (b−β)ᵀΣ(b−β) + b0² + σ², no sampling error over x
+	RiskTestSet     = "test-set"   // mean squared error on the held-out test set
+	SplitExact      = "exact"      // over the input distribution, from coefficients
+	SplitTestInputs = "test-inputs" // over the fixed test inputs against f*
+	SplitLumped     = "lumped"     // truth unknown: bias² column holds bias² + noise
+)
+
+// ModelResult is one model's curve over the grid.
+type ModelResult struct {
+	Label  string  `json:"label"`
+	Family string  `json:"family"`
+	Points []Point `json:"points"`
+}
+
+// Point is one grid value: estimates over the seeds that succeeded.
+type Point struct {
+	Value float64 `json:"value"` // the knob's value
+	Seeds int     `json:"seeds"` // seeds that produced a fit
+
+	Risk      Estimate `json:"risk"`       // true (exact) or test risk
+	TrainRisk Estimate `json:"train_risk"` // (1/n)‖y − ŷ‖² on the training sample
+	Gap       Estimate `json:"gap"`        // Risk − TrainRisk, paired per seed
+	Bias2     Estimate `json:"bias2"`      // unbiased: ‖ē‖² − V̂/S (may be < 0)
+	Variance  Estimate `json:"variance"`   // 1/(S−1) over seeds
+	Noise     Estimate `json:"noise"`      // σ², exact (SE 0); NaN when lumped
+	Sum       Num      `json:"sum"`        // Bias2 + Variance + Noise
+	Norm      Estimate `json:"norm"`       // ‖b‖₂
+	DF        Estimate `json:"df"`         // effective degrees of freedom tr(H)
+
+	// Quantiles of Risk over seeds (the mean has no finite expectation at
+	// the interpolation threshold).
+	RiskQ1     Num `json:"risk_q1"`
+	RiskMedian Num `json:"risk_median"`
+	RiskQ3     Num `json:"risk_q3"`
+	// HeavyTail flags a point whose mean risk is carried by a few seeds.
+	HeavyTail bool `json:"heavy_tail"`
+	// Interpolating is the share of seeds whose training risk is below
+	// the interpolation tolerance.
+	Interpolating float64 `json:"interpolating"`
+
+	Errors []CellError `json:"errors,omitempty"`
+}
+
+// Estimate is a mean over seeds with its standard error.
+type Estimate struct {
+	Mean Num `json:"mean"`
+	SE   Num `json:"se"`
+}
+
+// CellError records one failed fit.
+type CellError struct {
+	Seed uint64 `json:"seed"`
+	Msg  string `json:"msg"`
+}
+
+// Num is a float64 that encodes NaN and ±Inf as JSON null (JSON has no
+// such numbers) and otherwise in the shortest form that reads back exactly.
+type Num float64
+
+// NaN is the Num used for a quantity that is undefined or unknown.
+var NaN = Num(math.NaN())
+
+// IsNaN reports whether n is NaN or infinite (both encode as null).
+func (n Num) IsNaN() bool { return math.IsNaN(float64(n)) || math.IsInf(float64(n), 0) }
+
+// MarshalJSON implements json.Marshaler.
+func (n Num) MarshalJSON() ([]byte, error) {
+	if n.IsNaN() {
+		return []byte("null"), nil
+	}
+	return strconv.AppendFloat(nil, float64(n), 'g', -1, 64), nil
+}
+
+// UnmarshalJSON implements json.Unmarshaler.
+func (n *Num) UnmarshalJSON(b []byte) error {
+	if string(b) == "null" {
+		*n = NaN
+		return nil
+	}
+	var f float64
+	if err := json.Unmarshal(b, &f); err != nil {
+		return err
+	}
+	*n = Num(f)
+	return nil
+}
+
+// Timing is kept apart from Result (timing.json) so that results compare
+// byte for byte.
+type Timing struct {
+	Created  string  `json:"created"` // RFC 3339, UTC
+	Workers  int     `json:"workers"`
+	Computed int     `json:"cells_computed"`
+	Cached   int     `json:"cells_cached"`
+	Seconds  float64 `json:"wall_seconds"`
+}

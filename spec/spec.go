@@ -1,0 +1,193 @@
+package spec
+
+// Spec is one experiment: a data distribution (or data file), the model
+// families to fit, the capacity grid and the seeds. A Spec returned by Load is
+// resolved: every default is filled in and the grid is expanded to its sorted
+// list of values, so two specs that mean the same thing compare equal and hash
+// equal.
+type Spec struct {
+	// Name names the study; it labels the output folder. Required.
+	Name string `toml:"name"`
+	// About is free text shown in reports. Default "".
+	About string `toml:"about"`
+
+	Data   Data    `toml:"data"`
+	Models []Model `toml:"model"`
+	Grid   Grid    `toml:"grid"`
+	Seeds  Seeds   `toml:"seeds"`
+
+	// Path is the file the spec was read from ("" when built in code).
+	Path string `toml:"-"`
+	// DataHash is the hex SHA-256 of the data file's bytes for a csv
+	// source, "" for a generator. It enters Hash.
+	DataHash string `toml:"-"`
+}
+
+// Data sources.
+const (
+	SourceLinearGaussian = "linear-gaussian"
+	SourceCSV            = "csv"
+)
+
+// Data describes where training and test samples come from.
+type Data struct {
+	// Source is SourceLinearGaussian or SourceCSV. Required.
+	Source string `toml:"source"`
+	// NTrain is the training-set size drawn for each seed. Required, > 0.
+	// When the grid param is "n_train" it is set to the largest grid value.
+	NTrain int `toml:"n_train"`
+	// NTest is the number of fixed test inputs (generator) or the size of the
+	// held-out test set (csv, exclusive with TestFraction). Generator default
+	// 1000.
+	NTest int `toml:"n_test"`
+
+	// Generator keys (linear-gaussian).
+
+	// Dim is the input dimension d. Required for the generator.
+	Dim int `toml:"dim"`
+	// Spectrum sets the diagonal covariance Σ. Default isotropic.
+	Spectrum Spectrum `toml:"spectrum"`
+	// Signal sets the true coefficient vector β. Default sphere, norm 1.
+	Signal Signal `toml:"signal"`
+	// Noise sets the additive noise ε. Default gaussian, sd 0 is allowed.
+	Noise Noise `toml:"noise"`
+	// Truth is TruthFixed (default: β drawn once and held) or TruthPerSeed
+	// (β redrawn for every seed: risk averaged over the prior).
+	Truth string `toml:"truth"`
+
+	// File keys (csv).
+
+	// File is the CSV path, relative to the spec file. Required for csv.
+	File string `toml:"file"`
+	// Target is the name of the response column. Required for csv.
+	Target string `toml:"target"`
+	// Features lists the feature columns in order. Default: every column
+	// but the target, in file order.
+	Features []string `toml:"features"`
+	// TestFraction is the share of rows held out as the test set, in (0,1).
+	// Exclusive with NTest; default 0.25 when neither is given.
+	TestFraction float64 `toml:"test_fraction"`
+	// Sampling is SamplingSubsample (default: n_train rows without
+	// replacement per seed) or SamplingBootstrap (with replacement).
+	Sampling string `toml:"sampling"`
+}
+
+// Truth modes.
+const (
+	TruthFixed   = "fixed"
+	TruthPerSeed = "per-seed"
+)
+
+// Sampling modes for a file source.
+const (
+	SamplingSubsample = "subsample"
+	SamplingBootstrap = "bootstrap"
+)
+
+// Spectrum kinds.
+const (
+	SpectrumIsotropic = "isotropic" // Σ = I
+	SpectrumPowerLaw  = "power-law" // Σ_jj = j^-Exponent, j = 1..d
+	SpectrumSpiked    = "spiked"    // Σ_jj = High for j ≤ Spikes, Low after
+	SpectrumList      = "list"      // Σ_jj = Values[j-1], len(Values) = d
+)
+
+// Spectrum is the diagonal of the input covariance Σ.
+type Spectrum struct {
+	Kind     string    `toml:"kind"`
+	Exponent float64   `toml:"exponent"` // power-law, > 0
+	Spikes   int       `toml:"spikes"`   // spiked, 1 ≤ Spikes < d
+	High     float64   `toml:"high"`     // spiked, > 0
+	Low      float64   `toml:"low"`      // spiked, > 0
+	Values   []float64 `toml:"values"`   // list, each > 0
+}
+
+// Signal kinds.
+const (
+	SignalSphere = "sphere" // β uniform on the sphere of radius Norm in R^d
+	SignalTop    = "top"    // β uniform on the sphere of radius Norm in the first Top coordinates, 0 after
+	SignalList   = "list"   // β = Values (len d)
+)
+
+// Signal is the true coefficient vector β.
+type Signal struct {
+	Kind   string    `toml:"kind"`
+	Norm   float64   `toml:"norm"`   // sphere, top: Euclidean norm ‖β‖, default 1
+	Top    int       `toml:"top"`    // top: 1 ≤ Top ≤ d
+	Values []float64 `toml:"values"` // list
+}
+
+// Noise kinds.
+const (
+	NoiseGaussian = "gaussian"  // ε ~ N(0, SD²)
+	NoiseStudentT = "student-t" // ε = SD · t_DF / sqrt(DF/(DF-2)), so Var ε = SD²
+)
+
+// Noise is the additive label noise of a generator.
+type Noise struct {
+	Kind string  `toml:"kind"`
+	SD   float64 `toml:"sd"` // ≥ 0
+	DF   float64 `toml:"df"` // student-t, > 2
+}
+
+// Model families.
+const (
+	FamilyLeastSquares = "least-squares"
+	FamilyRidge        = "ridge"
+)
+
+// Model is one model family with its fixed parameters. Which keys a family
+// accepts is listed in FamilyKeys.
+type Model struct {
+	Family string `toml:"family"`
+	// Label names the model in tables. Default: the family, with the
+	// penalty for ridge ("ridge λ=0.1"). Labels are unique within a spec.
+	Label string `toml:"label"`
+	// Lambda is the ridge penalty λ ≥ 0 of (1/n)‖y − Xb‖² + λ‖b‖².
+	Lambda float64 `toml:"lambda"`
+	// Intercept adds an unpenalised intercept. Default false.
+	Intercept bool `toml:"intercept"`
+}
+
+// FamilyKeys lists, per family, the keys a [[model]] table may hold.
+var FamilyKeys = map[string][]string{
+	FamilyLeastSquares: {"family", "label", "intercept"},
+	FamilyRidge:        {"family", "label", "lambda", "intercept"},
+}
+
+// Grid params (knobs).
+const (
+	ParamFeatures = "features" // use the first p input coordinates
+	ParamLambda   = "lambda"   // the ridge penalty
+	ParamNTrain   = "n_train"  // the training-set size (nested samples)
+)
+
+// Grid is the capacity grid: one knob and its values.
+type Grid struct {
+	// Param is the knob: ParamFeatures, ParamLambda or ParamNTrain.
+	Param string `toml:"param"`
+	// Values lists the grid explicitly. Exclusive with From/To/Points.
+	// After Load it holds the resolved, sorted, de-duplicated values.
+	Values []float64 `toml:"values"`
+	// From, To, Points, Spacing give Points values from From to To,
+	// Spacing "linear" (default) or "log"; integer knobs are rounded and
+	// de-duplicated.
+	From    float64 `toml:"from"`
+	To      float64 `toml:"to"`
+	Points  int     `toml:"points"`
+	Spacing string  `toml:"spacing"`
+	// Include adds values to a from/to grid (e.g. the threshold p = n).
+	Include []float64 `toml:"include"`
+}
+
+// Seeds sets the replications.
+type Seeds struct {
+	// Count is the number of seeds S ≥ 2 (unbiased variance needs two).
+	Count int `toml:"count"`
+	// Start is the first seed; seeds are Start, Start+1, …. Default 1.
+	Start uint64 `toml:"start"`
+	// Truth seeds the fixed truth β, the fixed test inputs and the csv
+	// test split. Default 0. It is kept apart from Start and Count so
+	// that adding seeds does not change the distribution.
+	Truth uint64 `toml:"truth"`
+}
