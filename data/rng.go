@@ -22,7 +22,7 @@ const streamDomain = "riskgrid.stream.v1"
 // Reference: "Scrambled linear pseudorandom number generators", ACM
 // Transactions on Mathematical Software 47(4), 2021 (arXiv:1805.01407).
 type Stream struct {
-	s        [4]uint64
+	s0, s1, s2, s3 uint64 // xoshiro256** state
 	spare    float64 // second value of the last polar pair
 	hasSpare bool
 }
@@ -58,31 +58,28 @@ func NewStream(key string, coords ...uint64) *Stream {
 	}
 	var d [sha256.Size]byte
 	h.Sum(d[:0])
-	st := &Stream{}
-	for i := range st.s {
-		st.s[i] = binary.LittleEndian.Uint64(d[8*i:])
-	}
-	st.guardZero()
-	return st
+	return newStreamState([4]uint64{
+		binary.LittleEndian.Uint64(d[0:]),
+		binary.LittleEndian.Uint64(d[8:]),
+		binary.LittleEndian.Uint64(d[16:]),
+		binary.LittleEndian.Uint64(d[24:]),
+	})
 }
 
 // newStreamState returns a stream with the given raw xoshiro256** state
 // (for reference tests), guarded against the all-zero state.
 func newStreamState(s [4]uint64) *Stream {
-	st := &Stream{s: s}
-	st.guardZero()
-	return st
+	if s[0]|s[1]|s[2]|s[3] == 0 {
+		var x uint64
+		for i := range s {
+			s[i] = splitMix64(&x)
+		}
+	}
+	return &Stream{s0: s[0], s1: s[1], s2: s[2], s3: s[3]}
 }
 
-func (st *Stream) guardZero() {
-	if st.s[0]|st.s[1]|st.s[2]|st.s[3] != 0 {
-		return
-	}
-	var x uint64
-	for i := range st.s {
-		st.s[i] = splitMix64(&x)
-	}
-}
+// state returns the raw xoshiro256** state.
+func (st *Stream) state() [4]uint64 { return [4]uint64{st.s0, st.s1, st.s2, st.s3} }
 
 // splitMix64 advances *x by the golden-ratio increment and returns the
 // mixed value
@@ -109,15 +106,17 @@ func splitMix64(x *uint64) uint64 {
 // Reference: "Scrambled linear pseudorandom number generators", ACM TOMS
 // 2021 (the algorithm of xoshiro256starstar.c).
 func (st *Stream) Uint64() uint64 {
-	s := &st.s
-	r := bits.RotateLeft64(s[1]*5, 7) * 9
-	t := s[1] << 17
-	s[2] ^= s[0]
-	s[3] ^= s[1]
-	s[1] ^= s[2]
-	s[0] ^= s[3]
-	s[2] ^= t
-	s[3] = bits.RotateLeft64(s[3], 45)
+	// Locals keep the function under the inlining budget.
+	s0, s1, s2, s3 := st.s0, st.s1, st.s2, st.s3
+	r := bits.RotateLeft64(s1*5, 7) * 9
+	t := s1 << 17
+	s2 ^= s0
+	s3 ^= s1
+	s1 ^= s2
+	s0 ^= s3
+	s2 ^= t
+	s3 = bits.RotateLeft64(s3, 45)
+	st.s0, st.s1, st.s2, st.s3 = s0, s1, s2, s3
 	return r
 }
 
@@ -145,9 +144,10 @@ func (st *Stream) Normal() float64 {
 		return st.spare
 	}
 	for {
-		// 2U−1 with U on the 2⁻⁵³ grid lies in [−1, 1).
-		u := 2*st.Float64() - 1
-		v := 2*st.Float64() - 1
+		// 2U−1 = k·2⁻⁵² − 1 for U = k·2⁻⁵³ (exact), in [−1, 1); Uint64 is
+		// called directly because it inlines and Float64 does not.
+		u := float64(st.Uint64()>>11)*0x1p-52 - 1
+		v := float64(st.Uint64()>>11)*0x1p-52 - 1
 		s := u*u + v*v
 		if s >= 1 || s == 0 {
 			continue

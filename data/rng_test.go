@@ -50,8 +50,8 @@ func TestZeroStateGuard(t *testing.T) {
 	st := newStreamState([4]uint64{})
 	var x uint64
 	for i := range 4 {
-		if w := splitMix64(&x); st.s[i] != w {
-			t.Errorf("guarded state[%d] = %#x, want SplitMix64(0) draw %d = %#x", i, st.s[i], i, w)
+		if w := splitMix64(&x); st.state()[i] != w {
+			t.Errorf("guarded state[%d] = %#x, want SplitMix64(0) draw %d = %#x", i, st.state()[i], i, w)
 		}
 	}
 	if st.Uint64() == 0 && st.Uint64() == 0 && st.Uint64() == 0 {
@@ -75,8 +75,8 @@ func TestNewStreamLayout(t *testing.T) {
 	d := sha256.Sum256(b)
 	st := NewStream(key, coords...)
 	for i := range 4 {
-		if w := binary.LittleEndian.Uint64(d[8*i:]); st.s[i] != w {
-			t.Errorf("NewStream state[%d] = %#x, want %#x", i, st.s[i], w)
+		if w := binary.LittleEndian.Uint64(d[8*i:]); st.state()[i] != w {
+			t.Errorf("NewStream state[%d] = %#x, want %#x", i, st.state()[i], w)
 		}
 	}
 }
