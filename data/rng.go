@@ -22,9 +22,9 @@ const streamDomain = "riskgrid.stream.v1"
 // Reference: "Scrambled linear pseudorandom number generators", ACM
 // Transactions on Mathematical Software 47(4), 2021 (arXiv:1805.01407).
 type Stream struct {
-	s0, s1, s2, s3 uint64 // xoshiro256** state
-	spare    float64 // second value of the last polar pair
-	hasSpare bool
+	s0, s1, s2, s3 uint64  // xoshiro256** state
+	spare          float64 // second value of the last polar pair
+	hasSpare       bool
 }
 
 // NewStream returns the stream named by key and coordinates. The state is
