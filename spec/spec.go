@@ -6,7 +6,8 @@ package spec
 // list of values, so two specs that mean the same thing compare equal and hash
 // equal.
 type Spec struct {
-	// Name names the study; it labels the output folder. Required.
+	// Name names the study; it labels the output folder. Required: 1 to
+	// 100 letters, digits, '.', '_' or '-', starting with a letter or digit.
 	Name string `toml:"name"`
 	// About is free text shown in reports. Default "".
 	About string `toml:"about"`
@@ -37,8 +38,8 @@ type Data struct {
 	// When the grid param is "n_train" it is set to the largest grid value.
 	NTrain int `toml:"n_train"`
 	// NTest is the number of fixed test inputs (generator) or the size of the
-	// held-out test set (csv, exclusive with TestFraction). Generator default
-	// 1000.
+	// held-out test set (csv, exclusive with TestFraction; see TestSize).
+	// Generator default 1000, ≥ 0; csv ≥ 1 when given, else 0.
 	NTest int `toml:"n_test"`
 
 	// Generator keys (linear-gaussian).
@@ -49,7 +50,8 @@ type Data struct {
 	Spectrum Spectrum `toml:"spectrum"`
 	// Signal sets the true coefficient vector β. Default sphere, norm 1.
 	Signal Signal `toml:"signal"`
-	// Noise sets the additive noise ε. Default gaussian, sd 0 is allowed.
+	// Noise sets the additive noise ε. Required, with sd; kind default
+	// gaussian; sd 0 is allowed.
 	Noise Noise `toml:"noise"`
 	// Truth is TruthFixed (default: β drawn once and held) or TruthPerSeed
 	// (β redrawn for every seed: risk averaged over the prior).
@@ -140,10 +142,14 @@ const (
 // accepts is listed in FamilyKeys.
 type Model struct {
 	Family string `toml:"family"`
-	// Label names the model in tables. Default: the family, with the
-	// penalty for ridge ("ridge λ=0.1"). Labels are unique within a spec.
+	// Label names the model in tables. Default (DefaultLabel): the family,
+	// with the penalty for ridge ("ridge λ=0.1"; just "ridge" on a lambda
+	// grid) and " (intercept)" when Intercept is set. Labels are unique
+	// within a spec.
 	Label string `toml:"label"`
 	// Lambda is the ridge penalty λ ≥ 0 of (1/n)‖y − Xb‖² + λ‖b‖².
+	// Required for ridge unless the grid param is "lambda", in which case
+	// it must not be written and stays 0.
 	Lambda float64 `toml:"lambda"`
 	// Intercept adds an unpenalised intercept. Default false.
 	Intercept bool `toml:"intercept"`
@@ -167,11 +173,13 @@ type Grid struct {
 	// Param is the knob: ParamFeatures, ParamLambda or ParamNTrain.
 	Param string `toml:"param"`
 	// Values lists the grid explicitly. Exclusive with From/To/Points.
-	// After Load it holds the resolved, sorted, de-duplicated values.
+	// After Load it holds the resolved, sorted, de-duplicated values, and
+	// From, To, Points, Spacing and Include are cleared (see Expand), so a
+	// range and the list it expands to resolve to the same Grid.
 	Values []float64 `toml:"values"`
 	// From, To, Points, Spacing give Points values from From to To,
 	// Spacing "linear" (default) or "log"; integer knobs are rounded and
-	// de-duplicated.
+	// de-duplicated. Points is at most MaxPoints.
 	From    float64 `toml:"from"`
 	To      float64 `toml:"to"`
 	Points  int     `toml:"points"`
