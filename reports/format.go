@@ -55,6 +55,9 @@ func measure(mean, se runner.Num) (m, s string) {
 	scale := math.Max(math.Abs(x), u)
 	if scale < eLow || scale >= eHigh {
 		s = strconv.FormatFloat(u, 'e', 1, 64)
+		if x == 0 {
+			return "0", s
+		}
 		e0 := exponent(x, 16) // exact exponent: 17 digits round-trip a float64
 		p := e0 - q           // digits after the point that reach place q
 		if p < 0 {
@@ -68,15 +71,16 @@ func measure(mean, se runner.Num) (m, s string) {
 		m = strconv.FormatFloat(x, 'e', p, 64)
 		if exponent(x, p) > e0 {
 			// Rounding carried into a new leading digit (9.996e-05 at place
-			// 1e-06 is 1.00e-04): one more digit keeps the last one at q.
-			m = strconv.FormatFloat(x, 'e', p+1, 64)
+			// 1e-06 is 1.00e-04): the result is ±10^(e0+1), and one more
+			// digit keeps its last one at q.
+			m = strconv.FormatFloat(math.Copysign(math.Pow10(e0+1), x), 'e', p+1, 64)
 		}
 		return dropNegZero(m), s
 	}
 	return fixedAt(x, q), fixedAt(u, q)
 }
 
-// mean formats a mean alone at the resolution its SE supports (see measure).
+// meanAt formats a mean alone at the resolution its SE supports (see measure).
 func meanAt(mean, se runner.Num) string {
 	m, _ := measure(mean, se)
 	return m

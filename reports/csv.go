@@ -1,0 +1,83 @@
+package reports
+
+import (
+	"bytes"
+	"encoding/csv"
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+
+	"riskgrid/runner"
+)
+
+// csvHeader names the columns of CSV, in order.
+var csvHeader = []string{
+	"model", "family", "param", "value", "seeds",
+	"risk", "risk_se", "risk_q1", "risk_median", "risk_q3",
+	"train_risk", "train_risk_se", "gap", "gap_se",
+	"bias2", "bias2_se", "variance", "variance_se", "noise", "noise_se",
+	"sum", "df", "df_se", "norm", "norm_se",
+	"interpolating", "heavy_tail", "errors",
+	"risk_basis", "split_basis", "spec_hash",
+}
+
+// CSV writes r as one tidy table (RFC 4180, encoding/csv): a header row,
+// then one row per model × grid point with the columns of csvHeader.
+// Numbers are in full precision (the shortest form that reads back to the
+// same float64); NaN and ±Inf are empty cells. errors is the number of
+// failed cells, heavy_tail is true or false, risk_basis and split_basis are
+// the Result's own codes and spec_hash is the full hash. Under the lumped
+// split bias2 holds bias² + noise, as in the Result.
+//
+// The whole output is formatted before the first byte is written, so an
+// inconsistent Result (ErrResult) writes nothing.
+func CSV(w io.Writer, r *runner.Result) error {
+	if err := check(r); err != nil {
+		return err
+	}
+	var buf bytes.Buffer
+	cw := csv.NewWriter(&buf)
+	if err := cw.Write(csvHeader); err != nil {
+		return fmt.Errorf("reports: csv header: %w", err)
+	}
+	for i := range r.Models {
+		m := &r.Models[i]
+		for j := range m.Points {
+			if err := cw.Write(csvRow(r, m, &m.Points[j])); err != nil {
+				return fmt.Errorf("reports: csv row %s %s=%s: %w", m.Label, r.Param, knob(m.Points[j].Value), err)
+			}
+		}
+	}
+	cw.Flush()
+	if err := cw.Error(); err != nil {
+		return fmt.Errorf("reports: csv: %w", err)
+	}
+	if _, err := w.Write(buf.Bytes()); err != nil {
+		return fmt.Errorf("reports: write csv: %w", err)
+	}
+	return nil
+}
+
+func csvRow(r *runner.Result, m *runner.ModelResult, p *runner.Point) []string {
+	return []string{
+		m.Label, m.Family, r.Param, full(p.Value), strconv.Itoa(p.Seeds),
+		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3),
+		full(p.TrainRisk.Mean), full(p.TrainRisk.SE), full(p.Gap.Mean), full(p.Gap.SE),
+		full(p.Bias2.Mean), full(p.Bias2.SE), full(p.Variance.Mean), full(p.Variance.SE),
+		full(p.Noise.Mean), full(p.Noise.SE),
+		full(p.Sum), full(p.DF.Mean), full(p.DF.SE), full(p.Norm.Mean), full(p.Norm.SE),
+		full(p.Interpolating), strconv.FormatBool(p.HeavyTail), strconv.Itoa(len(p.Errors)),
+		r.RiskBasis, r.SplitBasis, r.Hash,
+	}
+}
+
+// full formats x in the shortest form that parses back to the same float64,
+// and NaN or ±Inf as the empty string.
+func full[F ~float64](x F) string {
+	f := float64(x)
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return ""
+	}
+	return strconv.FormatFloat(f, 'g', -1, 64)
+}
