@@ -123,7 +123,7 @@ func typeName(v any) string {
 }
 
 func (d *decoder) mismatch(key string, v any, want string) *Error {
-	return d.errf(key, "has type %s, want %s", typeName(v), want)
+	return d.errf(key, "has type %s (accepted: %s)", typeName(v), want)
 }
 
 // str reads an optional string.
@@ -134,7 +134,7 @@ func (d *decoder) str(t table, k string) (string, bool, error) {
 	}
 	s, isStr := v.(string)
 	if !isStr {
-		return "", true, d.mismatch(t.key(k), v, "string")
+		return "", true, d.mismatch(t.key(k), v, "a string")
 	}
 	return s, true, nil
 }
@@ -174,7 +174,7 @@ func (d *decoder) integer(t table, k string, lo, hi int64, accepted string) (int
 	}
 	n, isInt := v.(int64)
 	if !isInt {
-		return 0, true, d.mismatch(t.key(k), v, "integer ("+accepted+")")
+		return 0, true, d.mismatch(t.key(k), v, accepted)
 	}
 	if n < lo || n > hi {
 		return 0, true, d.errf(t.key(k), "got %d (accepted: %s)", n, accepted)
@@ -210,7 +210,7 @@ func (d *decoder) float(t table, k string, ok func(float64) bool, accepted strin
 		if _, isFloat := v.(float64); isFloat {
 			return 0, true, d.errf(t.key(k), "got %v (accepted: a finite number, %s)", v, accepted)
 		}
-		return 0, true, d.mismatch(t.key(k), v, "number ("+accepted+")")
+		return 0, true, d.mismatch(t.key(k), v, accepted)
 	}
 	if !ok(x) {
 		return 0, true, d.errf(t.key(k), "got %s (accepted: %s)", fmtFloat(x), accepted)
@@ -226,7 +226,7 @@ func (d *decoder) floats(t table, k string, ok func(float64) bool, accepted stri
 	}
 	arr, isArr := v.([]any)
 	if !isArr {
-		return nil, true, d.mismatch(t.key(k), v, "array of numbers ("+accepted+")")
+		return nil, true, d.mismatch(t.key(k), v, "an array of numbers: "+accepted)
 	}
 	if len(arr) == 0 {
 		return nil, true, d.errf(t.key(k), "empty array (accepted: one or more numbers, %s)", accepted)
@@ -253,7 +253,7 @@ func (d *decoder) strs(t table, k string) ([]string, bool, error) {
 	}
 	arr, isArr := v.([]any)
 	if !isArr {
-		return nil, true, d.mismatch(t.key(k), v, "array of strings")
+		return nil, true, d.mismatch(t.key(k), v, "an array of strings")
 	}
 	if len(arr) == 0 {
 		return nil, true, d.errf(t.key(k), "empty array (accepted: one or more column names)")
@@ -277,7 +277,7 @@ func (d *decoder) boolean(t table, k string) (bool, bool, error) {
 	}
 	b, isBool := v.(bool)
 	if !isBool {
-		return false, true, d.mismatch(t.key(k), v, "boolean (true or false)")
+		return false, true, d.mismatch(t.key(k), v, "true or false")
 	}
 	return b, true, nil
 }
@@ -290,7 +290,7 @@ func (d *decoder) sub(t table, k string) (table, bool, error) {
 	}
 	m, isMap := v.(map[string]any)
 	if !isMap {
-		return table{}, true, d.mismatch(t.key(k), v, fmt.Sprintf("table ([%s] or %s = { … })", t.key(k), k))
+		return table{}, true, d.mismatch(t.key(k), v, fmt.Sprintf("a table, [%s] or %s = { … }", t.key(k), k))
 	}
 	return table{path: t.key(k), m: m}, true, nil
 }
