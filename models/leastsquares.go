@@ -1,0 +1,230 @@
+package models
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/lapack64"
+	"gonum.org/v1/gonum/mat"
+
+	"riskgrid/spec"
+)
+
+var _ Fitter = (*LeastSquares)(nil)
+
+// LeastSquares fits ordinary least squares, and its minimum-norm limit
+// where the solution is not unique:
+//
+//	b = argmin { ‖b‖₂ : b minimises ‖y − b0·1 − X b‖² } = X⁺ (y − b0·1),
+//
+// with b0 = ȳ − x̄ᵀb free (unpenalised, not counted in ‖b‖) when Intercept is
+// set, and b0 = 0 otherwise. For p ≤ n with X of full column rank this is
+// the OLS estimate; for p > n (or a rank-deficient X) it is the
+// interpolating solution of least norm, lying in the row space of X.
+// Reference: the Moore–Penrose pseudoinverse solution; Golub & Van Loan,
+// Matrix Computations, 4th ed. (2013), §5.5 (textbook).
+//
+// Path knobs: spec.ParamFeatures (the first p columns; nested
+// factorizations are shared across p), spec.ParamNTrain (the first n rows,
+// every column) and spec.ParamLambda (rejected per fit with ErrKnob: least
+// squares has no penalty). Methods:
+//
+//   - "qr": p ≤ m (m = n, or n−1 after the intercept is reflected out). One
+//     Householder QR of the leading columns serves every p: the leading p×p
+//     block of R is the R of the first p columns, b = R_p⁻¹(Qᵀy)_{1:p} and
+//     RSS = Σ_{i>p} (Qᵀy)_i². Cond is LAPACK's 1-norm estimate of κ₁(R_p)
+//     (Trcon), which estimates κ(X_p) within a factor p.
+//   - "gram-cholesky": p > m, b = X_pᵀ(X_p X_pᵀ)⁻¹y with the Gram matrix
+//     updated as columns are added and factored by Cholesky, used while its
+//     estimated condition number is at most 1e5 (see condMax). Cond is the
+//     square root of the 1-norm estimate of κ₁(X_p X_pᵀ) (Pocon).
+//   - "qr-transpose": p > m with an ill-conditioned Gram matrix (at and just
+//     past p = m): X_pᵀ = QR, b = Q R⁻ᵀ y. Cond is the Trcon estimate of κ₁(R).
+//   - "svd": a numerically rank-deficient X_p (reciprocal condition
+//     estimate below max(m, p)·eps): b = V diag(1/s_j) Uᵀy over the s_j
+//     above max(m, p)·eps·s_1 (common practice, the numpy/MATLAB default).
+//     Cond is s_1/s_min, exact in the 2-norm (+Inf when singular).
+//
+// DF is the rank (+1 with the intercept); TrainRisk is RSS/n.
+type LeastSquares struct {
+	// Intercept adds an unpenalised intercept b0. Default false (fit
+	// through the origin).
+	Intercept bool
+}
+
+// Path fits the path; see the type documentation. It panics if len(y) is
+// not the number of rows of x.
+func (ls *LeastSquares) Path(x *mat.Dense, y []float64, knob string, values []float64) []Fit {
+	rows, cols := checkShape(x, y)
+	fits := make([]Fit, len(values))
+	var w solver
+	switch knob {
+	case spec.ParamFeatures:
+		ps, top := counts(fits, knob, values, cols, "columns")
+		if top == 0 {
+			return fits
+		}
+		d, err := reduce(x, y, rows, top, ls.Intercept)
+		if err != nil {
+			failAll(fits, err)
+			return fits
+		}
+		w.leastSquares(d, ps, fits)
+	case spec.ParamNTrain:
+		ns, _ := counts(fits, knob, values, rows, "rows")
+		for i, n := range ns {
+			if n == 0 {
+				continue
+			}
+			d, err := reduce(x, y, n, cols, ls.Intercept)
+			if err != nil {
+				fits[i].Err = err
+				continue
+			}
+			w.leastSquares(d, []int{cols}, fits[i:i+1])
+		}
+	case spec.ParamLambda:
+		failAll(fits, fmt.Errorf("%w: %s (least squares has no penalty; accepted: %s, %s)",
+			ErrKnob, knob, spec.ParamFeatures, spec.ParamNTrain))
+	default:
+		failAll(fits, fmt.Errorf("%w: %q (accepted: %s, %s)", ErrKnob, knob, spec.ParamFeatures, spec.ParamNTrain))
+	}
+	return fits
+}
+
+// leastSquares fits the minimum-norm least-squares solution on the first
+// ps[i] columns of d into fits[i] for every nonzero ps[i].
+func (w *solver) leastSquares(d *design, ps []int, fits []Fit) {
+	order := ascending(ps)
+	if d.m == 0 {
+		for _, i := range order {
+			d.empty(&fits[i], ps[i])
+		}
+		return
+	}
+	k := 0 // the widest p ≤ m: one QR of its columns serves all p ≤ m
+	for _, i := range order {
+		if ps[i] <= d.m {
+			k = ps[i]
+		}
+	}
+	if k > 0 {
+		w.factorQR(d, k)
+	}
+	var gr *gram
+	for _, i := range order {
+		p := ps[i]
+		if p <= d.m {
+			w.qrFit(d, k, p, &fits[i])
+			continue
+		}
+		if gr == nil {
+			gr = w.newGram(d)
+		}
+		gr.extend(p)
+		w.gramFit(d, gr, p, &fits[i])
+	}
+}
+
+// factorQR computes the Householder QR of the first k columns of d into
+// w.qr (m×k, LAPACK layout) and z = Qᵀy into w.z.
+func (w *solver) factorQR(d *design, k int) {
+	m := d.m
+	a := grow(&w.qr, m*k)
+	for i := range m {
+		copy(a[i*k:(i+1)*k], d.a[i*d.p:i*d.p+k])
+	}
+	tau := grow(&w.tau, k)
+	ag := blas64.General{Rows: m, Cols: k, Stride: k, Data: a}
+	z := grow(&w.z, m)
+	copy(z, d.y)
+	zg := blas64.General{Rows: m, Cols: 1, Stride: 1, Data: z}
+	q := []float64{0}
+	lapack64.Geqrf(ag, tau, q, -1)
+	lw := int(q[0])
+	lapack64.Ormqr(blas.Left, blas.Trans, ag, tau, zg, q, -1)
+	lw = max(lw, int(q[0]), 1)
+	work := grow(&w.work, lw)
+	lapack64.Geqrf(ag, tau, work, lw)
+	lapack64.Ormqr(blas.Left, blas.Trans, ag, tau, zg, work, lw)
+}
+
+// qrFit solves for the first p columns from the QR of the first k ≥ p.
+func (w *solver) qrFit(d *design, k, p int, f *Fit) {
+	r := blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: p, Stride: k, Data: w.qr}
+	rcond := lapack64.Trcon(lapack.MaxColumnSum, r, grow(&w.work, max(3*p, 1)), growInt(&w.iwork, p))
+	if !(rcond >= rankTol(d.m, p, 1)) {
+		w.svdLeastSquares(d, p, f)
+		return
+	}
+	b := make([]float64, p)
+	copy(b, w.z[:p])
+	blas64.Trsv(blas.NoTrans, r, blas64.Vector{N: p, Inc: 1, Data: b})
+	tail := w.z[p:d.m]
+	nrm := blas64.Nrm2(blas64.Vector{N: len(tail), Inc: 1, Data: tail})
+	d.finish(f, b, nrm*nrm, float64(p), 1/rcond, "qr")
+}
+
+// gramFit solves the p > m case by the Gram matrix, or by QR of X_pᵀ when
+// the Gram matrix is too ill-conditioned (see condMax).
+func (w *solver) gramFit(d *design, gr *gram, p int, f *Fit) {
+	m := d.m
+	u, cond, ok := w.cholesky(gr.g.Data, m, m, 0)
+	if !ok || cond > condMax {
+		w.qrTranspose(d, p, f)
+		return
+	}
+	alpha := grow(&w.alpha, m)
+	copy(alpha, d.y)
+	cholSolve(u, alpha)
+	b := make([]float64, p)
+	blas64.Gemv(blas.Trans, 1, d.cols(p), blas64.Vector{N: m, Inc: 1, Data: alpha}, 0, blas64.Vector{N: p, Inc: 1, Data: b})
+	d.finish(f, b, d.rss(b, grow(&w.res, m)), float64(m), math.Sqrt(cond), "gram-cholesky")
+}
+
+// qrTranspose solves the wide system through X_pᵀ = QR (p×m): the minimum
+// norm solution of X_p b = y is b = Q R⁻ᵀ y.
+func (w *solver) qrTranspose(d *design, p int, f *Fit) {
+	m := d.m
+	t := grow(&w.tq, p*m)
+	for i := range m {
+		row := d.a[i*d.p : i*d.p+p]
+		for j, v := range row {
+			t[j*m+i] = v
+		}
+	}
+	tau := grow(&w.ttau, m)
+	tg := blas64.General{Rows: p, Cols: m, Stride: m, Data: t}
+	b := make([]float64, p)
+	bg := blas64.General{Rows: p, Cols: 1, Stride: 1, Data: b}
+	q := []float64{0}
+	lapack64.Geqrf(tg, tau, q, -1)
+	lw := int(q[0])
+	lapack64.Ormqr(blas.Left, blas.NoTrans, tg, tau, bg, q, -1)
+	lw = max(lw, int(q[0]), 3*m, 1)
+	work := grow(&w.work, lw)
+	lapack64.Geqrf(tg, tau, work, lw)
+	r := blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: m, Stride: m, Data: t}
+	rcond := lapack64.Trcon(lapack.MaxColumnSum, r, work[:3*m], growInt(&w.iwork, m))
+	if !(rcond >= rankTol(m, p, 1)) {
+		w.svdLeastSquares(d, p, f)
+		return
+	}
+	copy(b, d.y)
+	blas64.Trsv(blas.Trans, r, blas64.Vector{N: m, Inc: 1, Data: b[:m]})
+	lapack64.Ormqr(blas.Left, blas.NoTrans, tg, tau, bg, work, lw)
+	d.finish(f, b, d.rss(b, grow(&w.res, m)), float64(m), 1/rcond, "qr-transpose")
+}
+
+// svdLeastSquares is the rank-revealing fallback.
+func (w *solver) svdLeastSquares(d *design, p int, f *Fit) {
+	t, err := w.svd(d, p)
+	if err != nil {
+		f.Err = err
+		return
+	}
+	w.ridge(d, t, p, 0, true, f)
+}

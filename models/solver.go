@@ -1,0 +1,95 @@
+package models
+
+import (
+	"gonum.org/v1/gonum/blas"
+	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/lapack64"
+)
+
+// solver holds the scratch buffers of one Path call, reused across its
+// grid values so that the hot loop does not allocate (the coefficient
+// vectors handed out in the Fits excepted).
+type solver struct {
+	work, tmp, res          []float64
+	iwork                   []int
+	svdA, svdS, svdU, svdVt []float64
+	svdUty                  []float64
+	sv                      thinSVD
+
+	qr, tau, z []float64 // Householder QR of the leading columns, z = Qᵀy
+	g, f       []float64 // Gram matrix X_p X_pᵀ (upper) and its factored copy
+	tq, ttau   []float64 // QR of X_pᵀ
+	c, xty     []float64 // XᵀX over the leading columns (upper), Xᵀy
+	alpha      []float64 // dual coefficients
+}
+
+// gram keeps G = A_p A_pᵀ (upper triangle, m×m) for growing p.
+type gram struct {
+	d   *design
+	g   blas64.Symmetric
+	cur int // columns accumulated so far
+}
+
+func (w *solver) newGram(d *design) *gram {
+	g := grow(&w.g, d.m*d.m)
+	clear(g)
+	return &gram{d: d, g: blas64.Symmetric{Uplo: blas.Upper, N: d.m, Stride: d.m, Data: g}}
+}
+
+// extend adds the columns cur..p−1: G += A[:, cur:p] A[:, cur:p]ᵀ.
+func (gr *gram) extend(p int) {
+	if p <= gr.cur {
+		return
+	}
+	d := gr.d
+	blk := blas64.General{Rows: d.m, Cols: p - gr.cur, Stride: d.p, Data: d.a[gr.cur:]}
+	blas64.Syrk(blas.NoTrans, 1, blk, 1, gr.g)
+	gr.cur = p
+}
+
+// cholesky copies the upper triangle of the n×n symmetric s (stride st)
+// plus shift·I into the solver's factor buffer and factors it, A = UᵀU. It
+// returns the factor and the LAPACK 1-norm estimate of κ₁(A) (Pocon), and
+// ok = false when A is not numerically positive definite.
+func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Triangular, cond float64, ok bool) {
+	f := grow(&w.f, n*n)
+	for i := range n {
+		copy(f[i*n+i:(i+1)*n], s[i*st+i:i*st+n])
+		f[i*n+i] += shift
+	}
+	a := blas64.Symmetric{Uplo: blas.Upper, N: n, Stride: n, Data: f}
+	work := grow(&w.work, max(3*n, 1))
+	iwork := growInt(&w.iwork, n)
+	anorm := lapack64.Lansy(lapack.MaxColumnSum, a, work)
+	u, ok = lapack64.Potrf(a)
+	if !ok {
+		return u, 0, false
+	}
+	rcond := lapack64.Pocon(a, anorm, work, iwork)
+	if !(rcond > 0) {
+		return u, 0, false
+	}
+	return u, 1 / rcond, true
+}
+
+// cholSolve overwrites x with A⁻¹x for A = UᵀU.
+func cholSolve(u blas64.Triangular, x []float64) {
+	v := blas64.Vector{N: u.N, Inc: 1, Data: x}
+	blas64.Trsv(blas.Trans, u, v)
+	blas64.Trsv(blas.NoTrans, u, v)
+}
+
+// traceInv returns tr(A⁻¹) = ‖U⁻¹‖_F² for A = UᵀU, overwriting U by U⁻¹.
+func traceInv(u blas64.Triangular) (float64, bool) {
+	if !lapack64.Trtri(u) {
+		return 0, false
+	}
+	var t float64
+	for i := range u.N {
+		row := u.Data[i*u.Stride+i : i*u.Stride+u.N]
+		nrm := blas64.Nrm2(blas64.Vector{N: len(row), Inc: 1, Data: row})
+		t += nrm * nrm
+	}
+	return t, true
+}
