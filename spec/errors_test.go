@@ -14,7 +14,7 @@ const (
 	modelOK = "[[model]]\nfamily = \"least-squares\"\n"
 	gridOK  = "[grid]\nparam = \"features\"\nvalues = [10, 20]\n"
 	seedsOK = "[seeds]\ncount = 3\n"
-	csvOK = "[data]\nsource = \"csv\"\nn_train = 20\nfile = \"g.csv\"\ntarget = \"y\"\n"
+	csvOK   = "[data]\nsource = \"csv\"\nn_train = 20\nfile = \"g.csv\"\ntarget = \"y\"\n"
 	dim3    = "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 3\nnoise = { sd = 0.5 }\n"
 )
 
