@@ -54,7 +54,7 @@ func row(r *runner.Result, p *runner.Point) []string {
 		v, vSE,
 		noise, meanAt(p.Sum, p.Risk.SE),
 		meanAt(p.DF.Mean, p.DF.SE), meanAt(p.Norm.Mean, p.Norm.SE),
-		flag(p),
+		flags(p),
 	}
 }
 
@@ -80,9 +80,9 @@ func medianSE(p *runner.Point) runner.Num {
 	return runner.Num(math.Sqrt(math.Pi/2) * math.Abs(float64(iqr)) / 1.349 / math.Sqrt(float64(p.Seeds)))
 }
 
-// flag marks a heavy-tailed point with "!" and a point with failed cells
+// flags marks a heavy-tailed point with "!" and a point with failed cells
 // with their count.
-func flag(p *runner.Point) string {
+func flags(p *runner.Point) string {
 	var f []string
 	if p.HeavyTail {
 		f = append(f, "!")
