@@ -44,11 +44,11 @@ type Result struct {
 
 // Risk and split bases.
 const (
-	RiskExact       = "exact"      // R(b) = (b−β)ᵀΣ(b−β) + b0² + σ², no sampling error over x
-	RiskTestSet     = "test-set"   // mean squared error on the held-out test set
-	SplitExact      = "exact"      // over the input distribution, from coefficients
+	RiskExact       = "exact"       // R(b) = (b−β)ᵀΣ(b−β) + b0² + σ², no sampling error over x
+	RiskTestSet     = "test-set"    // mean squared error on the held-out test set
+	SplitExact      = "exact"       // over the input distribution, from coefficients
 	SplitTestInputs = "test-inputs" // over the fixed test inputs against f*
-	SplitLumped     = "lumped"     // truth unknown: bias² column holds bias² + noise
+	SplitLumped     = "lumped"      // truth unknown: bias² column holds bias² + noise
 )
 
 // ModelResult is one model's curve over the grid.
@@ -82,7 +82,7 @@ type Point struct {
 	HeavyTail bool `json:"heavy_tail"`
 	// Interpolating is the share of seeds whose training risk is below
 	// the interpolation tolerance.
-	Interpolating float64 `json:"interpolating"`
+	Interpolating Num `json:"interpolating"`
 
 	Errors []CellError `json:"errors,omitempty"`
 }

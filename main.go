@@ -1,0 +1,359 @@
+// Command riskgrid runs learning-theory experiments declared in TOML specs:
+// it fits model families along a capacity grid over many seeds, in
+// parallel and cached, and reports per grid point the true and training
+// risk, their gap and the bias²/variance/noise split with standard errors.
+//
+//	riskgrid run SPEC… [-j N] [-o DIR] [--fresh]
+//	riskgrid check SPEC
+//	riskgrid report DIR
+package main
+
+import (
+	"context"
+	"encoding/json"
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"path/filepath"
+	"runtime"
+	"strings"
+	"syscall"
+
+	"riskgrid/data"
+	"riskgrid/reports"
+	"riskgrid/runner"
+	"riskgrid/spec"
+)
+
+// Exit statuses.
+const (
+	exitOK          = 0
+	exitFailed      = 1 // a run failed: a cell error, or the output could not be written
+	exitBadInput    = 2 // bad usage, a bad spec or a bad data file
+	exitInterrupted = 130
+)
+
+const usage = `riskgrid runs learning-theory experiments declared in TOML specs.
+
+Usage:
+  riskgrid run SPEC… [-j N] [-o DIR] [--fresh]   fit every cell and write tables and result.json
+  riskgrid check SPEC                            validate a spec and print it resolved, with its size
+  riskgrid report DIR                            re-render the tables of a result folder
+
+Run 'riskgrid COMMAND -h' for a command's options.
+`
+
+func main() {
+	os.Exit(cli(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+// cli runs one command and returns its exit status.
+func cli(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return exitBadInput
+	}
+	switch args[0] {
+	case "run":
+		return cmdRun(args[1:], stdout, stderr)
+	case "check":
+		return cmdCheck(args[1:], stdout, stderr)
+	case "report":
+		return cmdReport(args[1:], stdout, stderr)
+	case "-h", "-help", "--help", "help":
+		fmt.Fprint(stdout, usage)
+		return exitOK
+	}
+	fmt.Fprintf(stderr, "riskgrid: unknown command %q (known: run, check, report)\n\n%s", args[0], usage)
+	return exitBadInput
+}
+
+// parse parses flags that may stand before, between or after the
+// positional arguments, and returns the positionals.
+func parse(fs *flag.FlagSet, args []string) ([]string, error) {
+	var pos []string
+	for {
+		if err := fs.Parse(args); err != nil {
+			return nil, err
+		}
+		if fs.NArg() == 0 {
+			return pos, nil
+		}
+		pos = append(pos, fs.Arg(0))
+		args = fs.Args()[1:]
+	}
+}
+
+func newFlags(name, synopsis string, stderr io.Writer) *flag.FlagSet {
+	fs := flag.NewFlagSet(name, flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	fs.Usage = func() {
+		fmt.Fprintf(stderr, "Usage: riskgrid %s\n\nOptions:\n", synopsis)
+		fs.PrintDefaults()
+	}
+	return fs
+}
+
+func flagStatus(err error) int {
+	if errors.Is(err, flag.ErrHelp) {
+		return exitOK
+	}
+	return exitBadInput
+}
+
+// inputStatus says whether err is the user's input (exit 2) or not (1).
+func inputStatus(err error) int {
+	var se *spec.Error
+	var de *data.Error
+	if errors.As(err, &se) || errors.As(err, &de) {
+		return exitBadInput
+	}
+	return exitFailed
+}
+
+func cmdRun(args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("run", "run SPEC… [-j N] [-o DIR] [--fresh]", stderr)
+	jobs := fs.Int("j", runtime.NumCPU(), "fit `N` seeds at once")
+	out := fs.String("o", "results", "write result folders and the cache under `DIR`")
+	fresh := fs.Bool("fresh", false, "recompute every cell, ignoring the cache")
+	paths, err := parse(fs, args)
+	if err != nil {
+		return flagStatus(err)
+	}
+	if len(paths) == 0 {
+		fmt.Fprintln(stderr, "riskgrid run: no spec given")
+		fs.Usage()
+		return exitBadInput
+	}
+	if *jobs < 1 {
+		fmt.Fprintf(stderr, "riskgrid run: -j %d: need at least one worker\n", *jobs)
+		return exitBadInput
+	}
+	// Check every spec before fitting any, so a typo in the last one does
+	// not surface after an hour of work.
+	specs := make([]*spec.Spec, len(paths))
+	for i, p := range paths {
+		s, err := spec.Load(p)
+		if err != nil {
+			fmt.Fprintln(stderr, err)
+			return exitBadInput
+		}
+		specs[i] = s
+	}
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	status := exitOK
+	for _, s := range specs {
+		opt := runner.Options{Workers: *jobs, CacheDir: filepath.Join(*out, ".cache"), Fresh: *fresh, Log: stderr}
+		res, tm, err := runner.Run(ctx, s, opt)
+		if err != nil {
+			if ctx.Err() != nil {
+				fmt.Fprintf(stderr, "riskgrid: %s: interrupted; the seeds that finished are cached\n", s.Path)
+				return exitInterrupted
+			}
+			fmt.Fprintf(stderr, "riskgrid: %s: %v\n", s.Path, err)
+			return inputStatus(err)
+		}
+		dir := filepath.Join(*out, resultDirName(s))
+		if err := writeResult(dir, res, tm); err != nil {
+			fmt.Fprintf(stderr, "riskgrid: %s: %v\n", s.Path, err)
+			return exitFailed
+		}
+		if err := reports.Terminal(stdout, res); err != nil {
+			fmt.Fprintf(stderr, "riskgrid: %v\n", err)
+			return exitFailed
+		}
+		fmt.Fprintf(stderr, "riskgrid: %s: %d cells computed, %d from the cache, %.2fs with %d workers; wrote %s\n",
+			s.Name, tm.Computed, tm.Cached, tm.Seconds, tm.Workers, dir)
+		if n := failedCells(res); n > 0 {
+			fmt.Fprintf(stderr, "riskgrid: %s: %d cells failed; their errors are in %s\n",
+				s.Name, n, filepath.Join(dir, "result.json"))
+			status = exitFailed
+		}
+	}
+	return status
+}
+
+// resultDirName names a result folder by the spec's name and short hash.
+func resultDirName(s *spec.Spec) string {
+	name := strings.Map(func(r rune) rune {
+		if r == '/' || r == '\\' || r == 0 || r == ' ' {
+			return '-'
+		}
+		return r
+	}, s.Name)
+	return name + "-" + s.Hash()[:12]
+}
+
+func failedCells(res *runner.Result) int {
+	n := 0
+	for _, m := range res.Models {
+		for _, p := range m.Points {
+			n += len(p.Errors)
+		}
+	}
+	return n
+}
+
+// writeResult writes the artifacts of a run into dir: built in a temporary
+// folder beside it, then swapped in, so dir never holds a half-written set.
+func writeResult(dir string, res *runner.Result, tm *runner.Timing) (err error) {
+	parent := filepath.Dir(dir)
+	if err := os.MkdirAll(parent, 0o755); err != nil {
+		return err
+	}
+	tmp, err := os.MkdirTemp(parent, "."+filepath.Base(dir)+".tmp-*")
+	if err != nil {
+		return err
+	}
+	defer func() {
+		if err != nil {
+			os.RemoveAll(tmp)
+		}
+	}()
+	if err = writeArtifacts(tmp, res, tm); err != nil {
+		return err
+	}
+	if err = os.Chmod(tmp, 0o755); err != nil {
+		return err
+	}
+	old := ""
+	if _, statErr := os.Stat(dir); statErr == nil {
+		old = tmp + ".old"
+		if err = os.Rename(dir, old); err != nil {
+			return err
+		}
+	}
+	if err = os.Rename(tmp, dir); err != nil {
+		if old != "" {
+			os.Rename(old, dir)
+		}
+		return err
+	}
+	if old != "" {
+		os.RemoveAll(old)
+	}
+	return nil
+}
+
+func writeArtifacts(dir string, res *runner.Result, tm *runner.Timing) error {
+	b, err := json.MarshalIndent(res, "", " ")
+	if err != nil {
+		return err
+	}
+	if err := runner.WriteFile(filepath.Join(dir, "result.json"), append(b, '\n')); err != nil {
+		return err
+	}
+	if tm != nil {
+		b, err := json.MarshalIndent(tm, "", " ")
+		if err != nil {
+			return err
+		}
+		if err := runner.WriteFile(filepath.Join(dir, "timing.json"), append(b, '\n')); err != nil {
+			return err
+		}
+	}
+	return writeTables(dir, res)
+}
+
+func writeTables(dir string, res *runner.Result) error {
+	for _, t := range []struct {
+		name   string
+		render func(io.Writer, *runner.Result) error
+	}{{"table.md", reports.Markdown}, {"table.csv", reports.CSV}} {
+		var sb strings.Builder
+		if err := t.render(&sb, res); err != nil {
+			return fmt.Errorf("%s: %w", t.name, err)
+		}
+		if err := runner.WriteFile(filepath.Join(dir, t.name), []byte(sb.String())); err != nil {
+			return err
+		}
+	}
+	return nil
+}
+
+func cmdCheck(args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("check", "check SPEC", stderr)
+	jobs := fs.Int("j", runtime.NumCPU(), "size the memory estimate for `N` workers")
+	paths, err := parse(fs, args)
+	if err != nil {
+		return flagStatus(err)
+	}
+	if len(paths) != 1 {
+		fmt.Fprintln(stderr, "riskgrid check: give exactly one spec")
+		fs.Usage()
+		return exitBadInput
+	}
+	s, err := spec.Load(paths[0])
+	if err != nil {
+		fmt.Fprintln(stderr, err)
+		return exitBadInput
+	}
+	plan := runner.Size(s, *jobs)
+	fmt.Fprintf(stdout, "# %s: valid\n", s.Path)
+	fmt.Fprintf(stdout, "# hash   %s\n", s.Hash())
+	fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds), %d path fits\n",
+		plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, plan.Paths)
+	fmt.Fprintf(stdout, "# memory about %s at peak with %d workers (estimate)\n", bytesIEC(plan.PeakBytes), *jobs)
+	fmt.Fprintf(stdout, "# resolved spec:\n%s", s.Canonical())
+	return exitOK
+}
+
+func bytesIEC(b int64) string {
+	const unit = 1024
+	if b < unit {
+		return fmt.Sprintf("%d B", b)
+	}
+	div, exp := int64(unit), 0
+	for n := b / unit; n >= unit; n /= unit {
+		div *= unit
+		exp++
+	}
+	return fmt.Sprintf("%.1f %ciB", float64(b)/float64(div), "KMGTPE"[exp])
+}
+
+func cmdReport(args []string, stdout, stderr io.Writer) int {
+	fs := newFlags("report", "report DIR", stderr)
+	paths, err := parse(fs, args)
+	if err != nil {
+		return flagStatus(err)
+	}
+	if len(paths) != 1 {
+		fmt.Fprintln(stderr, "riskgrid report: give exactly one result folder")
+		fs.Usage()
+		return exitBadInput
+	}
+	dir := paths[0]
+	res, err := readResult(filepath.Join(dir, "result.json"))
+	if err != nil {
+		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
+		return exitBadInput
+	}
+	if err := writeTables(dir, res); err != nil {
+		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
+		return exitFailed
+	}
+	if err := reports.Terminal(stdout, res); err != nil {
+		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
+		return exitFailed
+	}
+	return exitOK
+}
+
+func readResult(path string) (*runner.Result, error) {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return nil, err
+	}
+	var res runner.Result
+	if err := json.Unmarshal(b, &res); err != nil {
+		return nil, fmt.Errorf("%s: %w", path, err)
+	}
+	if res.Schema != runner.Schema {
+		return nil, fmt.Errorf("%s: schema %q, this riskgrid reads %q", path, res.Schema, runner.Schema)
+	}
+	return &res, nil
+}

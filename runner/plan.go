@@ -1,0 +1,46 @@
+package runner
+
+import "riskgrid/spec"
+
+// Plan is the size of a run, known before it starts.
+type Plan struct {
+	Cells int // models × grid values × seeds
+	Paths int // models × seeds: one path fit covers every grid value
+	Seeds int
+	// PeakBytes estimates the peak heap: per worker one training draw,
+	// the factorizations of a path and the seed's cache entry; once, the
+	// fixed test inputs and the reduction's mean deviation per grid point.
+	PeakBytes int64
+}
+
+// Size sizes the run of s with the given number of workers.
+func Size(s *spec.Spec, workers int) Plan {
+	if workers <= 0 {
+		workers = 1
+	}
+	m, g, S := len(s.Models), len(s.Grid.Values), s.Seeds.Count
+	n, d := int64(s.Data.NTrain), int64(s.Data.Dim)
+	k := min(n, d)
+	var coefs int64 // coefficients stored per seed entry
+	for _, v := range s.Grid.Values {
+		if s.Grid.Param == spec.ParamFeatures {
+			coefs += int64(v)
+		} else {
+			coefs += d
+		}
+	}
+	if s.Data.Source == spec.SourceCSV {
+		coefs = int64(g) * int64(s.Data.NTest)
+	}
+	perWorker := 8 * (n*d + n + // the draw
+		3*n*k + 2*n*n + // QR of the leading block, Gram and its factor
+		d*(k+1) + // a transposed QR past the threshold
+		2*int64(m)*coefs) // the entry, written and encoded
+	once := 8 * (int64(s.Data.NTest)*d + int64(m*g)*(d+1) + int64(m*g*S)*6)
+	return Plan{
+		Cells:     m * g * S,
+		Paths:     m * S,
+		Seeds:     S,
+		PeakBytes: int64(workers)*perWorker + once,
+	}
+}

@@ -1,0 +1,181 @@
+package runner
+
+import (
+	"fmt"
+	"runtime"
+	"sort"
+
+	"riskgrid/spec"
+)
+
+// point gathers one grid point of one model across seeds.
+type point struct {
+	risk, train, gap, norm, df []float64
+	interp                     int
+	errs                       []CellError
+	sp                         *split
+}
+
+// reduce reads every seed's entry in seed order (twice: the split needs the
+// mean deviation before the per-seed terms) and builds the Result. Reading
+// in a fixed order makes the Result the same bit for bit whatever the
+// number of workers.
+func (r *run) reduce() (*Result, error) {
+	w := r.weights()
+	pts := make([][]*point, len(r.models))
+	for i := range pts {
+		pts[i] = make([]*point, len(r.values))
+		for j := range pts[i] {
+			pts[i][j] = &point{sp: newSplit(w)}
+		}
+	}
+	dev := make([]float64, len(w))
+	for pass := 1; pass <= 2; pass++ {
+		for i := 0; i < r.s.Seeds.Count; i++ {
+			seed := r.seed(i)
+			e, ok := r.load(seed)
+			if !ok {
+				return nil, fmt.Errorf("seed %d: cache entry vanished during the run", seed)
+			}
+			for mi, m := range r.models {
+				for vi, v := range r.values {
+					c, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]
+					if !ok {
+						return nil, fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
+					}
+					p := pts[mi][vi]
+					if c.Err != "" {
+						if pass == 1 {
+							p.errs = append(p.errs, CellError{Seed: seed, Msg: c.Err})
+						}
+						continue
+					}
+					r.deviation(c, e.Beta, dev)
+					if pass == 1 {
+						p.sp.add(dev)
+						p.risk = append(p.risk, c.Risk)
+						p.train = append(p.train, c.TrainRisk)
+						p.gap = append(p.gap, c.Risk-c.TrainRisk)
+						p.norm = append(p.norm, c.Norm)
+						p.df = append(p.df, c.DF)
+						if c.Interp {
+							p.interp++
+						}
+					} else {
+						p.sp.revisit(dev)
+					}
+				}
+			}
+		}
+	}
+	res := &Result{
+		Schema:       Schema,
+		Engine:       spec.Engine,
+		Go:           runtime.Version(),
+		Platform:     runtime.GOOS + "/" + runtime.GOARCH,
+		Name:         r.s.Name,
+		About:        r.s.About,
+		Hash:         r.s.Hash(),
+		SpecTOML:     r.s.Canonical(),
+		Param:        r.s.Grid.Param,
+		Seeds:        r.s.Seeds.Count,
+		NTrain:       r.s.Data.NTrain,
+		TruthPerSeed: r.s.Data.Truth == spec.TruthPerSeed,
+	}
+	switch {
+	case r.exact:
+		res.RiskBasis, res.SplitBasis = RiskExact, SplitExact
+	case r.prob.TruthKnown:
+		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitTestInputs, len(r.prob.TestY)
+	default:
+		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitLumped, len(r.prob.TestY)
+	}
+	for mi, m := range r.models {
+		mr := ModelResult{Label: m.spec.Label, Family: m.spec.Family}
+		for vi, v := range r.values {
+			mr.Points = append(mr.Points, r.finish(v, pts[mi][vi], res.SplitBasis))
+		}
+		res.Models = append(res.Models, mr)
+	}
+	return res, nil
+}
+
+// weights is the inner product of the split: diag Σ (and 1 for the
+// intercept, as E x = 0) in coefficient space, or 1/m on the test inputs.
+func (r *run) weights() []float64 {
+	if r.exact {
+		w := make([]float64, len(r.prob.Sigma)+1)
+		copy(w, r.prob.Sigma)
+		w[len(w)-1] = 1
+		return w
+	}
+	m := len(r.prob.TestY)
+	w := make([]float64, m)
+	for j := range w {
+		w[j] = 1 / float64(m)
+	}
+	return w
+}
+
+// deviation writes e = f − f* of one cell into dst: (b padded − β, b0) in
+// coefficient space, or predictions minus targets on the test inputs.
+func (r *run) deviation(c *cell, seedBeta []float64, dst []float64) {
+	if r.exact {
+		beta := r.prob.Beta
+		if beta == nil {
+			beta = seedBeta
+		}
+		for j, bj := range beta {
+			d := -bj
+			if j < len(c.Coef) {
+				d += c.Coef[j]
+			}
+			dst[j] = d
+		}
+		dst[len(beta)] = c.Intercept
+		return
+	}
+	for j, p := range c.Pred {
+		dst[j] = p - r.prob.TestY[j]
+	}
+}
+
+func est(xs []float64) Estimate {
+	m, se := meanSE(xs)
+	return Estimate{Mean: Num(m), SE: Num(se)}
+}
+
+func (r *run) finish(v float64, p *point, basis string) Point {
+	pt := Point{
+		Value:     v,
+		Seeds:     len(p.risk),
+		Risk:      est(p.risk),
+		TrainRisk: est(p.train),
+		Gap:       est(p.gap),
+		Norm:      est(p.norm),
+		DF:        est(p.df),
+		Errors:    p.errs,
+	}
+	b2, b2se, vr, vrse := p.sp.result()
+	pt.Bias2 = Estimate{Num(b2), Num(b2se)}
+	pt.Variance = Estimate{Num(vr), Num(vrse)}
+	if basis == SplitLumped {
+		pt.Noise = Estimate{NaN, NaN}
+		pt.Sum = Num(b2 + vr)
+	} else {
+		pt.Noise = Estimate{Num(r.prob.NoiseVar), 0}
+		pt.Sum = Num(b2 + vr + r.prob.NoiseVar)
+	}
+	sorted := append([]float64(nil), p.risk...)
+	sort.Float64s(sorted)
+	pt.RiskQ1 = Num(quantile(sorted, 0.25))
+	pt.RiskMedian = Num(quantile(sorted, 0.5))
+	pt.RiskQ3 = Num(quantile(sorted, 0.75))
+	pt.HeavyTail = heavyTail(p.risk)
+	if len(p.risk) > 0 {
+		pt.Interpolating = Num(float64(p.interp) / float64(len(p.risk)))
+	} else {
+		pt.Interpolating = NaN
+	}
+	return pt
+}

@@ -1,0 +1,322 @@
+package runner
+
+import (
+	"context"
+	"crypto/sha256"
+	"encoding/hex"
+	"fmt"
+	"io"
+	"math"
+	"runtime"
+	"strconv"
+	"sync"
+	"sync/atomic"
+	"time"
+
+	"golang.org/x/sync/errgroup"
+	"gonum.org/v1/gonum/mat"
+
+	"riskgrid/data"
+	"riskgrid/models"
+	"riskgrid/spec"
+)
+
+// Options tunes a run. The zero value runs on every CPU without a cache.
+type Options struct {
+	// Workers bounds the seeds fitted at once. Default (0): runtime.NumCPU().
+	Workers int
+	// CacheDir is the content-addressed cache folder. Default "": cells are
+	// kept in memory for this run only.
+	CacheDir string
+	// Fresh recomputes every cell, ignoring (and then overwriting) the cache.
+	Fresh bool
+	// Log receives warnings (a corrupted cache entry, say). Default: discarded.
+	Log io.Writer
+}
+
+// InterpTol is the interpolation tolerance: a fit interpolates when its
+// training risk is at most InterpTol times the mean squared response
+// (1/n)‖y‖². An exact interpolant solved by QR or Cholesky leaves residuals
+// of order cond·eps·‖y‖, far below it; a fit that does not interpolate
+// leaves residuals of the order of the noise, far above it.
+const InterpTol = 1e-9
+
+// newFitter makes a model's fitter; tests replace it to plant failures.
+var newFitter = models.New
+
+// Run fits every cell of s (model × grid value × seed), seeds in parallel,
+// reusing cached cells, and reduces them to a Result. The Timing says how
+// many cells were computed and how many came from the cache. When ctx is
+// cancelled Run stops starting seeds, keeps in the cache every seed that
+// finished, and returns ctx's error.
+func Run(ctx context.Context, s *spec.Spec, opt Options) (*Result, *Timing, error) {
+	start := time.Now()
+	if opt.Workers <= 0 {
+		opt.Workers = runtime.NumCPU()
+	}
+	if opt.Log == nil {
+		opt.Log = io.Discard
+	}
+	r, err := newRun(s, opt)
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := r.fitAll(ctx); err != nil {
+		return nil, nil, err
+	}
+	res, err := r.reduce()
+	if err != nil {
+		return nil, nil, err
+	}
+	tm := &Timing{
+		Created:  start.UTC().Format(time.RFC3339),
+		Workers:  opt.Workers,
+		Computed: int(r.computed.Load()),
+		Cached:   int(r.cached.Load()),
+		Seconds:  time.Since(start).Seconds(),
+	}
+	return res, tm, nil
+}
+
+type model struct {
+	spec   spec.Model
+	key    string
+	fitter models.Fitter
+}
+
+type run struct {
+	s      *spec.Spec
+	opt    Options
+	key    string // data key
+	src    data.Source
+	prob   *data.Problem
+	models []model
+	values []float64
+	exact  bool // split in coefficient space with w = diag Σ
+	st     *store
+	mem    sync.Map // seed → *entry, when there is no cache folder
+
+	computed, cached atomic.Int64
+}
+
+func newRun(s *spec.Spec, opt Options) (*run, error) {
+	r := &run{s: s, opt: opt, key: s.DataKey(), values: s.Grid.Values}
+	src, err := data.New(s, r.key)
+	if err != nil {
+		return nil, err
+	}
+	r.src = src
+	r.prob = src.Problem()
+	r.exact = r.prob.Sigma != nil
+	for _, m := range s.Models {
+		f, err := newFitter(m)
+		if err != nil {
+			return nil, fmt.Errorf("model %q: %w", m.Label, err)
+		}
+		r.models = append(r.models, model{spec: m, key: spec.ModelKey(m, s.Grid.Param), fitter: f})
+	}
+	if opt.CacheDir != "" {
+		r.st = &store{dir: opt.CacheDir}
+	}
+	return r, nil
+}
+
+func (r *run) seed(i int) uint64 { return r.s.Seeds.Start + uint64(i) }
+
+// entryKey addresses the cache entry of one seed. Any new influence on a
+// cell that is not in the data key, the model key or the cell key must be
+// added here.
+func (r *run) entryKey(seed uint64) string {
+	h := sha256.New()
+	fmt.Fprintf(h, "entry %q\n", cacheMagic)
+	fmt.Fprintf(h, "data %q\n", r.key)
+	fmt.Fprintf(h, "seed %d\n", seed)
+	return hex.EncodeToString(h.Sum(nil))
+}
+
+func cellKey(modelKey, param string, v float64) string {
+	return modelKey + " " + param + " " + strconv.FormatFloat(v, 'g', -1, 64)
+}
+
+func (r *run) load(seed uint64) (*entry, bool) {
+	if r.st == nil {
+		if e, ok := r.mem.Load(seed); ok {
+			return e.(*entry), true
+		}
+		return nil, false
+	}
+	e, ok, bad := r.st.get(r.entryKey(seed))
+	if bad != nil {
+		fmt.Fprintf(r.opt.Log, "riskgrid: warning: %v; recomputing\n", bad)
+	}
+	return e, ok
+}
+
+func (r *run) save(seed uint64, e *entry) error {
+	if r.st == nil {
+		r.mem.Store(seed, e)
+		return nil
+	}
+	return r.st.put(r.entryKey(seed), e)
+}
+
+// fitAll runs every seed that has missing cells, opt.Workers at a time.
+func (r *run) fitAll(ctx context.Context) error {
+	g, gctx := errgroup.WithContext(ctx)
+	g.SetLimit(r.opt.Workers)
+	for i := 0; i < r.s.Seeds.Count; i++ {
+		seed := r.seed(i)
+		if gctx.Err() != nil {
+			break
+		}
+		g.Go(func() error {
+			if err := gctx.Err(); err != nil {
+				return err
+			}
+			return r.fitSeed(seed)
+		})
+	}
+	if err := g.Wait(); err != nil {
+		return err
+	}
+	return ctx.Err()
+}
+
+// fitSeed fits the missing cells of one seed from one draw shared by every
+// model and grid value, then stores the seed's entry.
+func (r *run) fitSeed(seed uint64) error {
+	var e *entry
+	if !r.opt.Fresh {
+		e, _ = r.load(seed)
+	}
+	if e == nil {
+		e = &entry{Cells: map[string]*cell{}}
+	}
+	type todo struct {
+		m      *model
+		values []float64
+	}
+	var work []todo
+	for i := range r.models {
+		m := &r.models[i]
+		var missing []float64
+		for _, v := range r.values {
+			if _, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]; !ok {
+				missing = append(missing, v)
+			}
+		}
+		r.cached.Add(int64(len(r.values) - len(missing)))
+		if len(missing) > 0 {
+			work = append(work, todo{m, missing})
+		}
+	}
+	if len(work) == 0 {
+		return nil
+	}
+	smp, err := r.src.Draw(seed)
+	if err != nil {
+		return fmt.Errorf("seed %d: %w", seed, err)
+	}
+	if smp.Beta != nil && r.prob.Beta == nil {
+		e.Beta = smp.Beta
+	}
+	for _, w := range work {
+		fits := safePath(w.m.fitter, smp.X, smp.Y, r.s.Grid.Param, w.values)
+		for i, v := range w.values {
+			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v)] = r.reduceFit(smp, v, &fits[i])
+		}
+		r.computed.Add(int64(len(w.values)))
+	}
+	return r.save(seed, e)
+}
+
+// safePath calls the fitter and turns a panic into an error on every fit of
+// the path: one broken fit must not crash the run.
+func safePath(f models.Fitter, x *mat.Dense, y []float64, knob string, values []float64) (fits []models.Fit) {
+	defer func() {
+		if p := recover(); p != nil {
+			fits = make([]models.Fit, len(values))
+			for i := range fits {
+				fits[i].Err = fmt.Errorf("panic: %v", p)
+			}
+		}
+	}()
+	fits = f.Path(x, y, knob, values)
+	if len(fits) != len(values) {
+		panic(fmt.Sprintf("runner: fitter returned %d fits for %d values", len(fits), len(values)))
+	}
+	return fits
+}
+
+// reduceFit keeps of a fit what the reduction needs, and its risk.
+func (r *run) reduceFit(smp *data.Sample, v float64, f *models.Fit) *cell {
+	if f.Err != nil {
+		return &cell{Err: f.Err.Error()}
+	}
+	c := &cell{
+		TrainRisk: f.TrainRisk, Norm: f.Norm, DF: f.DF, Cond: f.Cond,
+		Method: f.Method, Intercept: f.Intercept,
+	}
+	n := len(smp.Y)
+	if r.s.Grid.Param == spec.ParamNTrain {
+		n = int(v)
+	}
+	var yy float64
+	for _, y := range smp.Y[:n] {
+		yy += y * y
+	}
+	c.Interp = f.TrainRisk <= InterpTol*yy/float64(n)
+	if r.exact {
+		c.Coef = f.Coef
+		beta := r.prob.Beta
+		if beta == nil {
+			beta = smp.Beta
+		}
+		c.Risk = r.exactRisk(f.Coef, f.Intercept, beta)
+	} else {
+		c.Pred = r.predict(f.Coef, f.Intercept)
+		var ss float64
+		for j, p := range c.Pred {
+			d := p - r.prob.TestY[j]
+			ss += d * d
+		}
+		c.Risk = ss / float64(len(c.Pred))
+	}
+	if math.IsNaN(c.Risk) || math.IsInf(c.Risk, 0) {
+		return &cell{Err: fmt.Sprintf("non-finite risk %v (method %s)", c.Risk, f.Method)}
+	}
+	return c
+}
+
+// exactRisk is the true risk of the linear fit x ↦ b0 + xᵀb (b padded with
+// zeros to the dimension d) under x ~ N(0, Σ), Σ diagonal, y = xᵀβ + ε:
+//
+//	R(b) = E(y − b0 − xᵀb)² = Σ_j Σ_jj (b_j − β_j)² + b0² + Var ε.
+func (r *run) exactRisk(b []float64, b0 float64, beta []float64) float64 {
+	sig := r.prob.Sigma
+	risk := b0*b0 + r.prob.NoiseVar
+	for j, bj := range beta {
+		d := -bj
+		if j < len(b) {
+			d += b[j]
+		}
+		risk += sig[j] * d * d
+	}
+	return risk
+}
+
+// predict evaluates b0 + xᵀb at the test inputs (the first len(b) columns).
+func (r *run) predict(b []float64, b0 float64) []float64 {
+	x := r.prob.TestX
+	m, _ := x.Dims()
+	out := make([]float64, m)
+	for i := range out {
+		row := x.RawRowView(i)
+		s := b0
+		for j, bj := range b {
+			s += row[j] * bj
+		}
+		out[i] = s
+	}
+	return out
+}
