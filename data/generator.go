@@ -242,8 +242,10 @@ func (g *linearGaussian) drawBeta(st *Stream) []float64 {
 
 // fillRows writes rows × d inputs x = Σ^{1/2} z into dst, row by row.
 func (g *linearGaussian) fillRows(dst []float64, rows int, st *Stream) {
-	for i := range rows * g.d {
-		dst[i] = g.sqrtSig[i%g.d] * st.Normal()
+	dst = dst[:rows*g.d]
+	st.fillNormal(dst)
+	for i := range dst {
+		dst[i] *= g.sqrtSig[i%g.d]
 	}
 }
 
@@ -271,12 +273,14 @@ func (g *linearGaussian) Draw(seed uint64) (*Sample, error) {
 	es := NewStream(g.key, tagNoise, seed)
 	sd := g.noise.SD
 	student := g.noise.Kind == spec.NoiseStudentT
-	sq := g.sqrtSig
+	sq := g.sqrtSig[:d]
+	beta = beta[:d]
 	for i := range n {
 		row := raw[i*d : (i+1)*d : (i+1)*d]
+		xs.fillNormal(row)
 		var dot float64
-		for j := range row {
-			x := sq[j] * xs.Normal()
+		for j, z := range row {
+			x := sq[j] * z
 			row[j] = x
 			dot += x * beta[j]
 		}

@@ -466,6 +466,24 @@ func TestPartialShuffle(t *testing.T) {
 	}
 }
 
+// TestFillNormal: the fast path must give exactly the values of Normal,
+// whatever the lengths and the spare left over between calls.
+func TestFillNormal(t *testing.T) {
+	a, b := NewStream("fill"), NewStream("fill")
+	for _, n := range []int{0, 1, 1, 2, 3, 0, 5, 8, 1, 13} {
+		got := make([]float64, n)
+		a.fillNormal(got)
+		for i, g := range got {
+			if w := b.Normal(); g != w {
+				t.Fatalf("fillNormal(len %d)[%d] = %v, want Normal() = %v (tol 0)", n, i, g, w)
+			}
+		}
+		if x, y := a.Normal(), b.Normal(); x != y {
+			t.Fatalf("after fillNormal(len %d): Normal() = %v, want %v (tol 0)", n, x, y)
+		}
+	}
+}
+
 func TestStreamPanics(t *testing.T) {
 	tests := []struct {
 		name string
@@ -509,6 +527,13 @@ func BenchmarkStream(b *testing.B) {
 			x += st.Normal()
 		}
 		_ = x
+	})
+	b.Run("fillNormal/1000", func(b *testing.B) {
+		st := NewStream("bench")
+		buf := make([]float64, 1000)
+		for b.Loop() {
+			st.fillNormal(buf)
+		}
 	})
 	for _, a := range []float64{0.5, 2.5} {
 		b.Run(fmt.Sprintf("Gamma/%g", a), func(b *testing.B) {
