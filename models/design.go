@@ -24,7 +24,7 @@ const eps = 0x1p-52
 // κ(G) ≈ 6e5: 1e-10; p = 210, κ(G) ≈ 7e3: 3e-13). Above the bound the
 // stable routes (QR of X_pᵀ, SVD) are used, whose error grows with κ(X),
 // the square root. The estimate compared with it is LAPACK's 1-norm
-// estimate (Pocon), within a factor of the dimension of the 2-norm value.
+// estimator (dlacn2, as in dpocon), within a factor of the dimension of the 2-norm value.
 const condMax = 1e5
 
 // rankTol returns the singular-value cutoff below which a direction is

@@ -40,7 +40,7 @@ var _ Fitter = (*LeastSquares)(nil)
 //   - "gram-cholesky": p > m, b = X_pᵀ(X_p X_pᵀ)⁻¹y with the Gram matrix
 //     updated as columns are added and factored by Cholesky, used while its
 //     estimated condition number is at most 1e5 (see condMax). Cond is the
-//     square root of the 1-norm estimate of κ₁(X_p X_pᵀ) (Pocon).
+//     square root of the 1-norm estimate of κ₁(X_p X_pᵀ) (LAPACK dlacn2).
 //   - "qr-transpose": p > m with an ill-conditioned Gram matrix (at and just
 //     past p = m): X_pᵀ = QR, b = Q R⁻ᵀ y. Cond is the Trcon estimate of κ₁(R).
 //   - "svd": a numerically rank-deficient X_p (reciprocal condition

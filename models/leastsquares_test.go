@@ -147,7 +147,7 @@ func TestFeaturesPathReference(t *testing.T) {
 	}
 	t.Logf("largest relative distance to the reference, by method: %v", worst)
 	for _, m := range []string{"qr", "gram-cholesky", "qr-transpose"} {
-		if !methods[m] {
+		if !methods[m] && !(testing.Short() && m == "qr-transpose") { // qr-transpose needs the n = 200 case
 			t.Errorf("method %q never used on the grid (used: %v)", m, methods)
 		}
 	}

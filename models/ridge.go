@@ -40,7 +40,7 @@ var _ Fitter = (*Ridge)(nil)
 //     p ≤ m the leading p×p block of XᵀX over the leading columns gives
 //     XpᵀXp + nλI ("cholesky"); for p > m the dual Gram matrix XpXpᵀ + nλI,
 //     updated as columns are added ("gram-cholesky"). Cond is LAPACK's
-//     1-norm estimate of the factored matrix (Pocon). If it exceeds 1e5
+//     1-norm estimate of the factored matrix (LAPACK dlacn2, as in dpocon). If it exceeds 1e5
 //     (see condMax) or the factorization fails, that p is solved by the
 //     SVD instead ("svd"). Lambda = 0 runs the LeastSquares path.
 //   - spec.ParamNTrain (the first n rows, every column): one fit per value

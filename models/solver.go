@@ -1,9 +1,12 @@
 package models
 
 import (
+	"math"
+
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack"
+	"gonum.org/v1/gonum/lapack/gonum"
 	"gonum.org/v1/gonum/lapack/lapack64"
 )
 
@@ -50,7 +53,7 @@ func (gr *gram) extend(p int) {
 
 // cholesky copies the upper triangle of the n×n symmetric s (stride st)
 // plus shift·I into the solver's factor buffer and factors it, A = UᵀU. It
-// returns the factor and the LAPACK 1-norm estimate of κ₁(A) (Pocon), and
+// returns the factor and a 1-norm estimate of κ₁(A) = ‖A‖₁‖A⁻¹‖₁ (see normInv), and
 // ok = false when A is not numerically positive definite.
 func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Triangular, cond float64, ok bool) {
 	f := grow(&w.f, n*n)
@@ -66,12 +69,39 @@ func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Trian
 	if !ok {
 		return u, 0, false
 	}
-	rcond := lapack64.Pocon(a, anorm, work, iwork)
-	if !(rcond > 0) {
+	inv := w.normInv(u, work[:n], work[n:2*n], iwork)
+	cond = anorm * inv
+	if math.IsNaN(cond) || math.IsInf(cond, 0) {
 		return u, 0, false
 	}
-	return u, 1 / rcond, true
+	return u, cond, true
 }
+
+// normInv estimates ‖A⁻¹‖₁ for A = UᵀU by Hager's method as refined by
+// Higham (LAPACK dlacn2, the estimator inside dpocon), applying A⁻¹ by two
+// plain triangular solves. dpocon solves with dlatrs, which guards against
+// overflow at twice the cost; here the factor has just passed Cholesky with
+// finite entries and the estimate is only compared with condMax, so plain
+// solves suffice (overflow would need κ near 1e308, and would show as an
+// infinite estimate, treated as failure). Reference: "FORTRAN codes for
+// estimating the one-norm of a real or complex matrix, with applications to
+// condition estimation", ACM TOMS 14 (1988).
+func (w *solver) normInv(u blas64.Triangular, v, x []float64, isgn []int) float64 {
+	var (
+		est   float64
+		kase  int
+		isave [3]int
+	)
+	for {
+		est, kase = lapackImpl.Dlacn2(u.N, v, x, isgn, est, kase, &isave)
+		if kase == 0 {
+			return est
+		}
+		cholSolve(u, x) // A⁻¹ is symmetric: the same for kase 1 and 2
+	}
+}
+
+var lapackImpl gonum.Implementation
 
 // cholSolve overwrites x with A⁻¹x for A = UᵀU.
 func cholSolve(u blas64.Triangular, x []float64) {
