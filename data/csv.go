@@ -8,7 +8,6 @@ import (
 	"io"
 	"math"
 	"os"
-	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -16,15 +15,6 @@ import (
 
 	"riskgrid/spec"
 )
-
-// dataPath is the data file of a csv spec: File relative to the folder of
-// the spec file (File itself when absolute or when the spec has no path).
-func dataPath(s *spec.Spec) string {
-	if filepath.IsAbs(s.Data.File) {
-		return s.Data.File
-	}
-	return filepath.Join(filepath.Dir(s.Path), s.Data.File)
-}
 
 // table is a parsed data file: the response and the chosen features of
 // every data row, in file order.
@@ -204,7 +194,7 @@ func newCSV(s *spec.Spec, key string) (*csvSource, error) {
 		return nil, bad("sampling", "unknown sampling %q (known: %s, %s)", dd.Sampling, spec.SamplingSubsample, spec.SamplingBootstrap)
 	}
 
-	path := dataPath(s)
+	path := s.DataPath()
 	b, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("read data file: %w", err)
@@ -214,15 +204,11 @@ func newCSV(s *spec.Spec, key string) (*csvSource, error) {
 		return nil, err
 	}
 	rows := len(t.y)
-	m := dd.NTest
-	if m == 0 {
-		m = int(math.Round(frac * float64(rows)))
-	}
+	sized := *dd
+	sized.TestFraction = frac
+	m := sized.TestSize(rows) // n_test, or max(1, round(fraction · rows))
 	whole := func(format string, args ...any) error {
 		return &Error{File: path, Msg: fmt.Sprintf(format, args...)}
-	}
-	if m < 1 {
-		return nil, whole("%d rows give an empty test set (test_fraction %v); give n_test ≥ 1 or more rows", rows, frac)
 	}
 	if m >= rows {
 		return nil, whole("n_test = %d leaves none of the %d rows for training", m, rows)

@@ -35,21 +35,6 @@ func csvSpec(file string, nTrain int, edit func(*spec.Data)) *spec.Spec {
 	return s
 }
 
-func TestDataPath(t *testing.T) {
-	tests := []struct{ path, file, want string }{
-		{"specs/a.toml", "d.csv", filepath.Join("specs", "d.csv")},
-		{"specs/a.toml", "../data/d.csv", filepath.Join("data", "d.csv")},
-		{"", "d.csv", "d.csv"},
-		{"specs/a.toml", "/abs/d.csv", "/abs/d.csv"},
-	}
-	for _, tc := range tests {
-		s := &spec.Spec{Path: tc.path, Data: spec.Data{File: tc.file}}
-		if got := dataPath(s); got != tc.want {
-			t.Errorf("dataPath(%q, %q) = %q, want %q", tc.path, tc.file, got, tc.want)
-		}
-	}
-}
-
 func TestErrorFormat(t *testing.T) {
 	tests := []struct {
 		err  *Error
@@ -161,12 +146,13 @@ func TestCSVSplit(t *testing.T) {
 	tests := []struct {
 		name  string
 		edit  func(*spec.Data)
-		nTest int // n_test, or round(fraction · 20)
+		nTest int // n_test, or max(1, round(fraction · 20)) as in spec.Data.TestSize
 	}{
 		{"n_test", nil, 5},
 		{"fraction 0.3", func(d *spec.Data) { d.NTest = 0; d.TestFraction = 0.3 }, 6},
 		{"fraction 0.23 rounds up", func(d *spec.Data) { d.NTest = 0; d.TestFraction = 0.23 }, 5}, // 4.6
 		{"default 0.25", func(d *spec.Data) { d.NTest = 0 }, 5},
+		{"at least one row", func(d *spec.Data) { d.NTest = 0; d.TestFraction = 0.01 }, 1}, // round(0.2) = 0
 	}
 	for _, tc := range tests {
 		src := mustNew(t, csvSpec("good.csv", 8, tc.edit), "split")
