@@ -50,6 +50,12 @@ func measure(mean, se runner.Num) (m, s string) {
 		return m, "0"
 	}
 	u := math.Abs(float64(se)) // an SE is non-negative; tolerate a stray sign
+	if u < maxSig*math.Abs(x) {
+		// The SE is below what a table needs (every seed gave nearly the
+		// same value: a training set that is the whole pool, a fit that
+		// interpolates): 7 significant digits, the SE in e-notation.
+		return sigN(x, 7), strconv.FormatFloat(u, 'e', 1, 64)
+	}
 	eu := exponent(u, 1)       // exponent of the SE after rounding to 2 digits
 	q := eu - 1                // decimal place of its second digit
 	scale := math.Max(math.Abs(x), u)
@@ -86,16 +92,26 @@ func meanAt(mean, se runner.Num) string {
 	return m
 }
 
+// maxSig caps the digits of a mean: when its SE is below maxSig·|mean| it
+// prints with 7 significant digits, not with the 17 its SE would allow —
+// such digits say more about rounding than about the risk. The CSV and
+// result.json keep full precision.
+const maxSig = 1e-7
+
 // sig4 formats x with 4 significant digits, in e-notation outside
 // [eLow, eHigh).
-func sig4(x float64) string {
+func sig4(x float64) string { return sigN(x, 4) }
+
+// sigN formats x with n significant digits, in e-notation outside
+// [eLow, eHigh).
+func sigN(x float64, n int) string {
 	if x == 0 {
 		return "0"
 	}
 	if a := math.Abs(x); a < eLow || a >= eHigh {
-		return strconv.FormatFloat(x, 'e', 3, 64)
+		return strconv.FormatFloat(x, 'e', n-1, 64)
 	}
-	return fixedAt(x, exponent(x, 3)-3)
+	return fixedAt(x, exponent(x, n-1)-(n-1))
 }
 
 // fixedAt formats x in fixed notation rounded to a multiple of 10^q.

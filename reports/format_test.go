@@ -48,6 +48,7 @@ func TestMeasure(t *testing.T) {
 		{"tiny mean rounding up to one unit", 7e-7, 1e-5, "1e-06", "1.0e-05"},
 		{"SE zero, large mean in e-notation", 1234567.8, 0, "1.235e+06", "0"},
 		{"SE NaN, tiny mean in e-notation", -0.000123456, nan, "-1.235e-04", "–"},
+		{"SE at rounding level: 7 digits", 3.72271349795205175, 3.6e-16, "3.722713", "3.6e-16"},
 		{"negative SE is read as its magnitude", 1.23456, -0.0123, "1.235", "0.012"},
 	}
 	for _, tt := range tests {
@@ -124,6 +125,13 @@ func FuzzMeasure(f *testing.F) {
 		gs, err := strconv.ParseFloat(s, 64)
 		if err != nil {
 			t.Fatalf("measure(%v, %v) SE %q does not parse: %v", mean, se, s, err)
+		}
+		if u < maxSig*math.Abs(mean) {
+			// Capped at 7 significant digits.
+			if !scalar.EqualWithinRel(gm, mean, 5e-7) {
+				t.Errorf("measure(%v, %v) mean = %q, want 7 significant digits", mean, se, m)
+			}
+			return
 		}
 		q := math.Pow10(exponent(u, 1) - 1)
 		// Half a unit at place q, plus a relative 1e-12 for the decimal
