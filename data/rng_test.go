@@ -292,8 +292,8 @@ func TestNormalMoments(t *testing.T) {
 //
 //	F(t) = 1/2 + (θ + sin θ cos θ)/π,  θ = atan(t/√3).
 //
-// Reference: textbook closed form for odd ν (as quoted in
-// ../shared/reference/distributions.md, copied here).
+// Reference: textbook closed form of the t CDF for odd ν (provenance of the
+// copied values in testdata/README.md).
 func tCDF3(x float64) float64 {
 	th := math.Atan(x / math.Sqrt(3))
 	return 0.5 + (th+math.Sin(th)*math.Cos(th))/math.Pi
