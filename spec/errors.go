@@ -64,10 +64,22 @@ func syntaxError(file string, err error) *Error {
 	} else {
 		e.Msg = "TOML syntax: " + pe.Message
 	}
-	if ctx := caretContext(pe.ErrorWithPosition()); ctx != "" {
+	if ctx := caretContext(errorWithPosition(pe)); ctx != "" {
 		e.Msg += "\n" + ctx
 	}
 	return e
+}
+
+// errorWithPosition calls pe.ErrorWithPosition, which panics on some inputs
+// in BurntSushi/toml v1.6.0 (index -1 for an error on a "\r\n" line, found
+// by FuzzParse); the context is then left out.
+func errorWithPosition(pe toml.ParseError) (s string) {
+	defer func() {
+		if recover() != nil {
+			s = ""
+		}
+	}()
+	return pe.ErrorWithPosition()
 }
 
 // duplicateKey recognises BurntSushi/toml's "Key 'a.b' has already been
