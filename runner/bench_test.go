@@ -37,7 +37,7 @@ func BenchmarkSeed(b *testing.B) {
 	}
 	for b.Loop() {
 		r.mem.Clear()
-		if err := r.fitSeed(1); err != nil {
+		if _, _, err := r.fitSeed(1); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -161,9 +161,13 @@ func (r *run) save(seed uint64, e *entry) error {
 }
 
 // fitAll runs every seed that has missing cells, opt.Workers at a time.
+// Entries are written by a second group of goroutines, so that a worker
+// fits its next seed while the last one's entry is synced to disk.
 func (r *run) fitAll(ctx context.Context) error {
 	g, gctx := errgroup.WithContext(ctx)
 	g.SetLimit(r.opt.Workers)
+	var saves errgroup.Group
+	saves.SetLimit(r.opt.Workers)
 	for i := 0; i < r.s.Seeds.Count; i++ {
 		seed := r.seed(i)
 		if gctx.Err() != nil {
@@ -173,18 +177,28 @@ func (r *run) fitAll(ctx context.Context) error {
 			if err := gctx.Err(); err != nil {
 				return err
 			}
-			return r.fitSeed(seed)
+			e, changed, err := r.fitSeed(seed)
+			if err != nil || !changed {
+				return err
+			}
+			saves.Go(func() error { return r.save(seed, e) })
+			return nil
 		})
 	}
-	if err := g.Wait(); err != nil {
+	err := g.Wait()
+	if serr := saves.Wait(); err == nil {
+		err = serr
+	}
+	if err != nil {
 		return err
 	}
 	return ctx.Err()
 }
 
 // fitSeed fits the missing cells of one seed from one draw shared by every
-// model and grid value, then stores the seed's entry.
-func (r *run) fitSeed(seed uint64) error {
+// model and grid value, and returns the seed's entry and whether it gained
+// cells (and so must be stored).
+func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 	var e *entry
 	if !r.opt.Fresh {
 		e, _ = r.load(seed)
@@ -211,11 +225,11 @@ func (r *run) fitSeed(seed uint64) error {
 		}
 	}
 	if len(work) == 0 {
-		return nil
+		return e, false, nil
 	}
 	smp, err := r.src.Draw(seed)
 	if err != nil {
-		return fmt.Errorf("seed %d: %w", seed, err)
+		return nil, false, fmt.Errorf("seed %d: %w", seed, err)
 	}
 	if smp.Beta != nil && r.prob.Beta == nil {
 		e.Beta = smp.Beta
@@ -227,7 +241,7 @@ func (r *run) fitSeed(seed uint64) error {
 		}
 		r.computed.Add(int64(len(w.values)))
 	}
-	return r.save(seed, e)
+	return e, true, nil
 }
 
 // safePath calls the fitter and turns a panic into an error on every fit of
