@@ -56,8 +56,8 @@ func measure(mean, se runner.Num) (m, s string) {
 		// interpolates): 7 significant digits, the SE in e-notation.
 		return sigN(x, 7), strconv.FormatFloat(u, 'e', 1, 64)
 	}
-	eu := exponent(u, 1)       // exponent of the SE after rounding to 2 digits
-	q := eu - 1                // decimal place of its second digit
+	eu := exponent(u, 1) // exponent of the SE after rounding to 2 digits
+	q := eu - 1          // decimal place of its second digit
 	scale := math.Max(math.Abs(x), u)
 	if scale < eLow || scale >= eHigh {
 		s = strconv.FormatFloat(u, 'e', 1, 64)
