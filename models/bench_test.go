@@ -51,16 +51,19 @@ func BenchmarkPath(b *testing.B) {
 			}
 		}
 		name := fmt.Sprintf("n=%d/d=%d/points=%d", size.n, size.d, len(ps))
-		b.Run(name+"/least-squares", run(func() { ls.Path(x, y, spec.ParamFeatures, ps) }))
-		b.Run(name+"/ridge", run(func() { rg.Path(x, y, spec.ParamFeatures, ps) }))
+		b.Run(name+"/least-squares", run(func() { ls.Path(NewTrain(x, y), spec.ParamFeatures, ps) }))
+		b.Run(name+"/ridge", run(func() { rg.Path(NewTrain(x, y), spec.ParamFeatures, ps) }))
+		// Both models on one Train, as the runner does: they share the
+		// reduced sample and the Gram matrices.
 		b.Run(name+"/both", run(func() {
-			ls.Path(x, y, spec.ParamFeatures, ps)
-			rg.Path(x, y, spec.ParamFeatures, ps)
+			t := NewTrain(x, y)
+			ls.Path(t, spec.ParamFeatures, ps)
+			rg.Path(t, spec.ParamFeatures, ps)
 		}))
 		lambdas := make([]float64, 40)
 		for i := range lambdas {
 			lambdas[i] = math.Pow(10, -4+6*float64(i)/39)
 		}
-		b.Run(name+"/ridge-lambda-path", run(func() { (&Ridge{}).Path(x, y, spec.ParamLambda, lambdas) }))
+		b.Run(name+"/ridge-lambda-path", run(func() { (&Ridge{}).Path(NewTrain(x, y), spec.ParamLambda, lambdas) }))
 	}
 }

@@ -58,6 +58,10 @@ type design struct {
 	intercept bool
 	xbar      []float64 // column means (intercept only)
 	ybar      float64
+
+	// grams keeps the upper triangle of G_p = A_p A_pᵀ by p, for the next
+	// model fitted to the same Train; nil when the design is not shared.
+	grams map[int][]float64
 }
 
 // reduce builds the design from the first n rows and first p columns of x.

@@ -20,7 +20,7 @@ func ExampleLeastSquares_Path() {
 		2, 1,
 	})
 	y := []float64{1, 3, 4}
-	fits := (&models.LeastSquares{Intercept: true}).Path(x, y, spec.ParamFeatures, []float64{1, 2})
+	fits := (&models.LeastSquares{Intercept: true}).Path(models.NewTrain(x, y), spec.ParamFeatures, []float64{1, 2})
 	for _, f := range fits {
 		fmt.Printf("p=%d b0=%.4f b=%.4f risk=%.4f df=%g %s\n", len(f.Coef), f.Intercept, f.Coef, f.TrainRisk, f.DF, f.Method)
 	}
@@ -37,7 +37,7 @@ func ExampleRidge_Path() {
 		1, -1,
 	})
 	y := []float64{3, -1} // b_ols = (1, 2)
-	for _, f := range (&models.Ridge{}).Path(x, y, spec.ParamLambda, []float64{0, 1, 3}) {
+	for _, f := range (&models.Ridge{}).Path(models.NewTrain(x, y), spec.ParamLambda, []float64{0, 1, 3}) {
 		fmt.Printf("b=%.4f df=%.4f\n", f.Coef, f.DF)
 	}
 	// Output:

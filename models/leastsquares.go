@@ -8,7 +8,6 @@ import (
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
-	"gonum.org/v1/gonum/mat"
 
 	"riskgrid/spec"
 )
@@ -57,8 +56,8 @@ type LeastSquares struct {
 
 // Path fits the path; see the type documentation. It panics if len(y) is
 // not the number of rows of x.
-func (ls *LeastSquares) Path(x *mat.Dense, y []float64, knob string, values []float64) []Fit {
-	rows, cols := checkShape(x, y)
+func (ls *LeastSquares) Path(t *Train, knob string, values []float64) []Fit {
+	rows, cols := checkShape(t.X, t.Y)
 	fits := make([]Fit, len(values))
 	var w solver
 	switch knob {
@@ -67,7 +66,7 @@ func (ls *LeastSquares) Path(x *mat.Dense, y []float64, knob string, values []fl
 		if top == 0 {
 			return fits
 		}
-		d, err := reduce(x, y, rows, top, ls.Intercept)
+		d, err := t.design(rows, top, ls.Intercept, true)
 		if err != nil {
 			failAll(fits, err)
 			return fits
@@ -79,7 +78,7 @@ func (ls *LeastSquares) Path(x *mat.Dense, y []float64, knob string, values []fl
 			if n == 0 {
 				continue
 			}
-			d, err := reduce(x, y, n, cols, ls.Intercept)
+			d, err := t.design(n, cols, ls.Intercept, false)
 			if err != nil {
 				fits[i].Err = err
 				continue

@@ -46,7 +46,7 @@ func TestLongley(t *testing.T) {
 		{"features path 6 first", spec.ParamFeatures, []float64{6, 2, 4}, 0},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			fits := ls.Path(x, y, tc.knob, tc.values)
+			fits := ls.Path(NewTrain(x, y), tc.knob, tc.values)
 			f := fits[tc.at]
 			if f.Err != nil {
 				t.Fatal(f.Err)
@@ -99,7 +99,7 @@ func TestFeaturesPathReference(t *testing.T) {
 			x, y := gaussian(seed, n, d)
 			for _, intercept := range []bool{false, true} {
 				ls := &LeastSquares{Intercept: intercept}
-				fits := ls.Path(x, y, spec.ParamFeatures, ps)
+				fits := ls.Path(NewTrain(x, y), spec.ParamFeatures, ps)
 				for i, pv := range ps {
 					p := int(pv)
 					f := fits[i]
@@ -168,7 +168,7 @@ func TestMinNormRowSpace(t *testing.T) {
 	const n, d = 40, 160
 	x, y := gaussian(7, n, d)
 	ps := []float64{41, 45, 60, 100, 160}
-	fits := (&LeastSquares{}).Path(x, y, spec.ParamFeatures, ps)
+	fits := (&LeastSquares{}).Path(NewTrain(x, y), spec.ParamFeatures, ps)
 	for i, pv := range ps {
 		p := int(pv)
 		f := fits[i]
@@ -215,7 +215,7 @@ func TestRankDeficient(t *testing.T) {
 	}
 	for _, intercept := range []bool{false, true} {
 		ls := &LeastSquares{Intercept: intercept}
-		fits := ls.Path(x, y, spec.ParamFeatures, []float64{1, 2, 4})
+		fits := ls.Path(NewTrain(x, y), spec.ParamFeatures, []float64{1, 2, 4})
 		one, two, four := fits[0], fits[1], fits[2]
 		for _, f := range fits {
 			if f.Err != nil {
@@ -224,7 +224,7 @@ func TestRankDeficient(t *testing.T) {
 		}
 		// Reference for the full fit: the same identity applied to the
 		// full-rank 3-column problem on x0.
-		ref := ls.Path(x0, y, spec.ParamFeatures, []float64{3})[0]
+		ref := ls.Path(NewTrain(x0, y), spec.ParamFeatures, []float64{3})[0]
 		const tol = 1e-12 // well-conditioned 30×3 problems: κ ≈ 1.5
 		for _, c := range []struct {
 			name      string
@@ -256,7 +256,7 @@ func TestNTrainPath(t *testing.T) {
 	x, y := gaussian(11, 80, 30)
 	ns := []float64{10, 29, 30, 31, 50, 80}
 	for _, intercept := range []bool{false, true} {
-		fits := (&LeastSquares{Intercept: intercept}).Path(x, y, spec.ParamNTrain, ns)
+		fits := (&LeastSquares{Intercept: intercept}).Path(NewTrain(x, y), spec.ParamNTrain, ns)
 		for i, nv := range ns {
 			n := int(nv)
 			f := fits[i]
@@ -290,7 +290,7 @@ func TestLeastSquaresBadInput(t *testing.T) {
 		{"empty grid", spec.ParamFeatures, nil, nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			fits := ls.Path(x, y, tc.knob, tc.values)
+			fits := ls.Path(NewTrain(x, y), tc.knob, tc.values)
 			if len(fits) != len(tc.values) {
 				t.Fatalf("len(Path) = %d, want %d", len(fits), len(tc.values))
 			}
@@ -305,14 +305,14 @@ func TestLeastSquaresBadInput(t *testing.T) {
 		})
 	}
 	// One training row with an intercept: the intercept interpolates it.
-	f := ls.Path(x, y, spec.ParamNTrain, []float64{1})[0]
+	f := ls.Path(NewTrain(x, y), spec.ParamNTrain, []float64{1})[0]
 	if f.Intercept != y[0] || f.TrainRisk != 0 || f.Norm != 0 || f.DF != 1 {
 		t.Errorf("Path(n=1) = %+v, want intercept %v, zero slopes", f, y[0])
 	}
 	// Non-finite data spoils every fit, with an error.
 	xb := mat.DenseCopyOf(x)
 	xb.Set(3, 1, math.NaN())
-	for _, f := range ls.Path(xb, y, spec.ParamFeatures, []float64{1, 2, 5}) {
+	for _, f := range ls.Path(NewTrain(xb, y), spec.ParamFeatures, []float64{1, 2, 5}) {
 		if !errors.Is(f.Err, ErrNotFinite) {
 			t.Errorf("NaN in x: Err = %v, want ErrNotFinite", f.Err)
 		}
@@ -329,8 +329,8 @@ func FuzzPathValues(f *testing.F) {
 		vals := []float64{a, b}
 		var fits []Fit
 		for _, knob := range []string{spec.ParamFeatures, spec.ParamNTrain, spec.ParamLambda, "x"} {
-			fits = append(fits, (&LeastSquares{Intercept: intercept}).Path(x, y, knob, vals)...)
-			fits = append(fits, (&Ridge{Lambda: lambda, Intercept: intercept}).Path(x, y, knob, vals)...)
+			fits = append(fits, (&LeastSquares{Intercept: intercept}).Path(NewTrain(x, y), knob, vals)...)
+			fits = append(fits, (&Ridge{Lambda: lambda, Intercept: intercept}).Path(NewTrain(x, y), knob, vals)...)
 		}
 		for _, f := range fits {
 			if f.Err != nil {

@@ -1,6 +1,6 @@
 package models
 
-import "gonum.org/v1/gonum/mat"
+
 
 // Fit is one fitted model at one grid value.
 type Fit struct {
@@ -27,9 +27,13 @@ type Fit struct {
 type Fitter interface {
 	// Path fits the model to (x, y) at each value of knob and returns one
 	// Fit per value, in order. knob is spec.ParamFeatures (use the first p
-	// columns of x), spec.ParamNTrain (use the first n rows) or
+	// columns of t.X), spec.ParamNTrain (use the first n rows) or
 	// spec.ParamLambda (the penalty). Sharing work across values (nested
 	// factorizations, one SVD for a penalty path) is the point of taking
 	// the whole path at once.
-	Path(x *mat.Dense, y []float64, knob string, values []float64) []Fit
+	//
+	// Every model fitted to the same training sample within a seed gets the
+	// same *Train, through which they share what does not depend on the
+	// model (the sample with the intercept eliminated, Gram matrices).
+	Path(t *Train, knob string, values []float64) []Fit
 }

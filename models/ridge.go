@@ -6,7 +6,6 @@ import (
 
 	"gonum.org/v1/gonum/blas"
 	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/mat"
 
 	"riskgrid/spec"
 )
@@ -58,8 +57,8 @@ type Ridge struct {
 
 // Path fits the path; see the type documentation. It panics if len(y) is
 // not the number of rows of x.
-func (r *Ridge) Path(x *mat.Dense, y []float64, knob string, values []float64) []Fit {
-	rows, cols := checkShape(x, y)
+func (r *Ridge) Path(t *Train, knob string, values []float64) []Fit {
+	rows, cols := checkShape(t.X, t.Y)
 	fits := make([]Fit, len(values))
 	var w solver
 	if knob == spec.ParamLambda {
@@ -74,7 +73,7 @@ func (r *Ridge) Path(x *mat.Dense, y []float64, knob string, values []float64) [
 		if !ok {
 			return fits
 		}
-		d, err := reduce(x, y, rows, cols, r.Intercept)
+		d, err := t.design(rows, cols, r.Intercept, false)
 		if err != nil {
 			failAll(fits, err)
 			return fits
@@ -87,14 +86,14 @@ func (r *Ridge) Path(x *mat.Dense, y []float64, knob string, values []float64) [
 			}
 			return fits
 		}
-		t, err := w.svd(d, cols)
+		sv, err := w.svd(d, cols)
 		if err != nil {
 			failAll(fits, err)
 			return fits
 		}
 		for i, v := range values {
 			if fits[i].Err == nil {
-				w.ridge(d, t, cols, v, false, &fits[i])
+				w.ridge(d, sv, cols, v, false, &fits[i])
 			}
 		}
 		return fits
@@ -120,7 +119,7 @@ func (r *Ridge) Path(x *mat.Dense, y []float64, knob string, values []float64) [
 		if top == 0 {
 			return fits
 		}
-		d, err := reduce(x, y, rows, top, r.Intercept)
+		d, err := t.design(rows, top, r.Intercept, true)
 		if err != nil {
 			failAll(fits, err)
 			return fits
@@ -133,7 +132,7 @@ func (r *Ridge) Path(x *mat.Dense, y []float64, knob string, values []float64) [
 		if n == 0 {
 			continue
 		}
-		d, err := reduce(x, y, n, cols, r.Intercept)
+		d, err := t.design(n, cols, r.Intercept, false)
 		if err != nil {
 			fits[i].Err = err
 			continue

@@ -70,7 +70,7 @@ func TestRidgeDiabetes(t *testing.T) {
 		keys = append(keys, k)
 		lambdas = append(lambdas, v)
 	}
-	path := (&Ridge{Intercept: true}).Path(x, y, spec.ParamLambda, lambdas)
+	path := (&Ridge{Intercept: true}).Path(NewTrain(x, y), spec.ParamLambda, lambdas)
 	for i, key := range keys {
 		want := ref.Ridge[key]
 		lambda := lambdas[i]
@@ -80,9 +80,9 @@ func TestRidgeDiabetes(t *testing.T) {
 			fit  Fit
 		}{
 			{"lambda path", path[i]},
-			{"lambda single", (&Ridge{Intercept: true}).Path(x, y, spec.ParamLambda, []float64{lambda})[0]},
-			{"features", r.Path(x, y, spec.ParamFeatures, []float64{3, 10})[1]},
-			{"n_train", r.Path(x, y, spec.ParamNTrain, []float64{442})[0]},
+			{"lambda single", (&Ridge{Intercept: true}).Path(NewTrain(x, y), spec.ParamLambda, []float64{lambda})[0]},
+			{"features", r.Path(NewTrain(x, y), spec.ParamFeatures, []float64{3, 10})[1]},
+			{"n_train", r.Path(NewTrain(x, y), spec.ParamNTrain, []float64{442})[0]},
 		} {
 			f := tc.fit
 			if f.Err != nil {
@@ -107,9 +107,9 @@ func TestRidgeDiabetes(t *testing.T) {
 		name string
 		fit  Fit
 	}{
-		{"least squares", (&LeastSquares{Intercept: true}).Path(x, y, spec.ParamFeatures, []float64{10})[0]},
-		{"ridge λ=0 path", (&Ridge{Intercept: true}).Path(x, y, spec.ParamLambda, []float64{0})[0]},
-		{"ridge λ=0 features", (&Ridge{Intercept: true}).Path(x, y, spec.ParamFeatures, []float64{10})[0]},
+		{"least squares", (&LeastSquares{Intercept: true}).Path(NewTrain(x, y), spec.ParamFeatures, []float64{10})[0]},
+		{"ridge λ=0 path", (&Ridge{Intercept: true}).Path(NewTrain(x, y), spec.ParamLambda, []float64{0})[0]},
+		{"ridge λ=0 features", (&Ridge{Intercept: true}).Path(NewTrain(x, y), spec.ParamFeatures, []float64{10})[0]},
 	} {
 		f := tc.fit
 		if f.Err != nil {
@@ -149,11 +149,11 @@ func TestRidgeFeaturesMatchesLambdaPath(t *testing.T) {
 			// λ = 1e-9 forces the SVD fallback near p = n; λ = 50 makes
 			// df ≪ p and exercises the cancellation-free df.
 			for _, lambda := range []float64{1e-9, 1e-3, 0.1, 1, 50} {
-				fits := (&Ridge{Lambda: lambda, Intercept: intercept}).Path(x, y, spec.ParamFeatures, ps)
+				fits := (&Ridge{Lambda: lambda, Intercept: intercept}).Path(NewTrain(x, y), spec.ParamFeatures, ps)
 				for i, pv := range ps {
 					p := int(pv)
 					f := fits[i]
-					want := (&Ridge{Intercept: intercept}).Path(sub(x, 0, p), y, spec.ParamLambda, []float64{lambda})[0]
+					want := (&Ridge{Intercept: intercept}).Path(NewTrain(sub(x, 0, p), y), spec.ParamLambda, []float64{lambda})[0]
 					if f.Err != nil || want.Err != nil {
 						t.Fatalf("p=%d λ=%g: %v, %v", p, lambda, f.Err, want.Err)
 					}
@@ -198,7 +198,7 @@ func TestRidgeLambdaZeroIsMinNorm(t *testing.T) {
 	x, y := gaussian(21, 30, 70)
 	for _, p := range []int{10, 30, 70} {
 		xp := sub(x, 0, p)
-		got := (&Ridge{Intercept: true}).Path(xp, y, spec.ParamLambda, []float64{0, 1e-12})
+		got := (&Ridge{Intercept: true}).Path(NewTrain(xp, y), spec.ParamLambda, []float64{0, 1e-12})
 		want, want0, cond := pinvFit(t, xp, y, true)
 		tol := 10 * float64(max(30, p)) * eps * (cond + cond*cond) // as in TestFeaturesPathReference
 		for _, f := range got {
@@ -227,7 +227,7 @@ func TestRidgeBadInput(t *testing.T) {
 		{"n_train range", Ridge{Lambda: 1}, spec.ParamNTrain, []float64{13, 12, 1}, []error{ErrValue, nil, nil}},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			fits := tc.r.Path(x, y, tc.knob, tc.values)
+			fits := tc.r.Path(NewTrain(x, y), tc.knob, tc.values)
 			for i, want := range tc.want {
 				if got := fits[i].Err; !errors.Is(got, want) || (want == nil) != (got == nil) {
 					t.Errorf("Path(%s=%v).Err = %v, want %v", tc.knob, tc.values[i], got, want)
@@ -271,7 +271,7 @@ func TestRidgeLOOBruteForce(t *testing.T) {
 					r++
 				}
 				// Penalty matrix nλI on n−1 rows: λ' = nλ/(n−1).
-				f := (&Ridge{Intercept: intercept}).Path(xi, yi, spec.ParamLambda, []float64{lambda * n / (n - 1)})[0]
+				f := (&Ridge{Intercept: intercept}).Path(NewTrain(xi, yi), spec.ParamLambda, []float64{lambda * n / (n - 1)})[0]
 				if f.Err != nil {
 					t.Fatal(f.Err)
 				}

@@ -40,15 +40,25 @@ func (w *solver) newGram(d *design) *gram {
 	return &gram{d: d, g: blas64.Symmetric{Uplo: blas.Upper, N: d.m, Stride: d.m, Data: g}}
 }
 
-// extend adds the columns cur..p−1: G += A[:, cur:p] A[:, cur:p]ᵀ.
+// extend adds the columns cur..p−1: G += A[:, cur:p] A[:, cur:p]ᵀ, or
+// copies G_p from the design's cache when another model made it already.
+// p must not decrease.
 func (gr *gram) extend(p int) {
 	if p <= gr.cur {
 		return
 	}
 	d := gr.d
+	if g, ok := d.grams[p]; ok {
+		copy(gr.g.Data, g)
+		gr.cur = p
+		return
+	}
 	blk := blas64.General{Rows: d.m, Cols: p - gr.cur, Stride: d.p, Data: d.a[gr.cur:]}
 	blas64.Syrk(blas.NoTrans, 1, blk, 1, gr.g)
 	gr.cur = p
+	if d.grams != nil {
+		d.grams[p] = append([]float64(nil), gr.g.Data...)
+	}
 }
 
 // cholesky copies the upper triangle of the n×n symmetric s (stride st)

@@ -14,7 +14,6 @@ import (
 	"time"
 
 	"golang.org/x/sync/errgroup"
-	"gonum.org/v1/gonum/mat"
 
 	"riskgrid/data"
 	"riskgrid/models"
@@ -234,8 +233,9 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 	if smp.Beta != nil && r.prob.Beta == nil {
 		e.Beta = smp.Beta
 	}
+	train := models.NewTrain(smp.X, smp.Y) // shared by the models of this seed
 	for _, w := range work {
-		fits := safePath(w.m.fitter, smp.X, smp.Y, r.s.Grid.Param, w.values)
+		fits := safePath(w.m.fitter, train, r.s.Grid.Param, w.values)
 		for i, v := range w.values {
 			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v)] = r.reduceFit(smp, v, &fits[i])
 		}
@@ -246,7 +246,7 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 
 // safePath calls the fitter and turns a panic into an error on every fit of
 // the path: one broken fit must not crash the run.
-func safePath(f models.Fitter, x *mat.Dense, y []float64, knob string, values []float64) (fits []models.Fit) {
+func safePath(f models.Fitter, t *models.Train, knob string, values []float64) (fits []models.Fit) {
 	defer func() {
 		if p := recover(); p != nil {
 			fits = make([]models.Fit, len(values))
@@ -255,7 +255,7 @@ func safePath(f models.Fitter, x *mat.Dense, y []float64, knob string, values []
 			}
 		}
 	}()
-	fits = f.Path(x, y, knob, values)
+	fits = f.Path(t, knob, values)
 	if len(fits) != len(values) {
 		panic(fmt.Sprintf("runner: fitter returned %d fits for %d values", len(fits), len(values)))
 	}

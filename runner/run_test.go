@@ -12,8 +12,6 @@ import (
 	"strings"
 	"testing"
 
-	"gonum.org/v1/gonum/mat"
-
 	"riskgrid/models"
 	"riskgrid/spec"
 )
@@ -259,11 +257,11 @@ func TestRunCorruptedCacheIsRecomputed(t *testing.T) {
 
 type panicky struct{ models.Fitter }
 
-func (p panicky) Path(x *mat.Dense, y []float64, knob string, values []float64) []models.Fit {
-	if x.At(0, 0) > 0 {
+func (p panicky) Path(t *models.Train, knob string, values []float64) []models.Fit {
+	if t.X.At(0, 0) > 0 {
 		panic("planted failure")
 	}
-	return p.Fitter.Path(x, y, knob, values)
+	return p.Fitter.Path(t, knob, values)
 }
 
 func TestRunPanicBecomesCellError(t *testing.T) {
@@ -310,9 +308,9 @@ type cancelAfter struct {
 	cancel func()
 }
 
-func (c cancelAfter) Path(x *mat.Dense, y []float64, knob string, values []float64) []models.Fit {
+func (c cancelAfter) Path(t *models.Train, knob string, values []float64) []models.Fit {
 	if *c.calls++; *c.calls == c.after {
 		c.cancel()
 	}
-	return c.Fitter.Path(x, y, knob, values)
+	return c.Fitter.Path(t, knob, values)
 }
