@@ -1,7 +1,5 @@
 package models
 
-
-
 // Fit is one fitted model at one grid value.
 type Fit struct {
 	// Coef is the coefficient vector over the features used (length p).

@@ -7,9 +7,12 @@ type Plan struct {
 	Cells int // models × grid values × seeds
 	Paths int // models × seeds: one path fit covers every grid value
 	Seeds int
-	// PeakBytes estimates the peak heap: per worker one training draw,
-	// the factorizations of a path and the seed's cache entry; once, the
-	// fixed test inputs and the reduction's mean deviation per grid point.
+	// PeakBytes estimates the peak of live heap data: per worker one
+	// training draw, the factorizations of a path, the Gram matrices the
+	// models of a seed share and the seed's cache entry; once, the fixed
+	// test inputs and the reduction's mean deviation per grid point. With
+	// Go's default GOGC=100 the process's resident size runs up to about
+	// twice this.
 	PeakBytes int64
 }
 
@@ -22,9 +25,13 @@ func Size(s *spec.Spec, workers int) Plan {
 	n, d := int64(s.Data.NTrain), int64(s.Data.Dim)
 	k := min(n, d)
 	var coefs int64 // coefficients stored per seed entry
+	var grams int64 // Gram matrices kept for the models of a seed
 	for _, v := range s.Grid.Values {
 		if s.Grid.Param == spec.ParamFeatures {
 			coefs += int64(v)
+			if int64(v) >= n {
+				grams++
+			}
 		} else {
 			coefs += d
 		}
@@ -34,6 +41,7 @@ func Size(s *spec.Spec, workers int) Plan {
 	}
 	perWorker := 8 * (n*d + n + // the draw
 		3*n*k + 2*n*n + // QR of the leading block, Gram and its factor
+		grams*n*n + // the Gram matrices shared by the models
 		d*(k+1) + // a transposed QR past the threshold
 		2*int64(m)*coefs) // the entry, written and encoded
 	once := 8 * (int64(s.Data.NTest)*d + int64(m*g)*(d+1) + int64(m*g*S)*6)

@@ -1,0 +1,171 @@
+package main
+
+import (
+	"bytes"
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"riskgrid/runner"
+)
+
+const tinySpec = `name = "tiny"
+[data]
+source = "linear-gaussian"
+n_train = 20
+dim = 30
+n_test = 10
+noise = { kind = "gaussian", sd = 0.5 }
+[[model]]
+family = "least-squares"
+[grid]
+param = "features"
+values = [5, 20, 30]
+[seeds]
+count = 4
+`
+
+func writeSpec(t *testing.T, dir, name, src string) string {
+	t.Helper()
+	p := filepath.Join(dir, name)
+	if err := os.WriteFile(p, []byte(src), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+func runCLI(args ...string) (status int, stdout, stderr string) {
+	var o, e bytes.Buffer
+	status = cli(args, &o, &e)
+	return status, o.String(), e.String()
+}
+
+func TestRunWritesArtifactsAndCaches(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny.toml", tinySpec)
+	out := filepath.Join(dir, "out")
+	status, stdout, stderr := runCLI("run", sp, "-o", out, "-j", "2")
+	if status != exitOK {
+		t.Fatalf("run: status %d, stderr %s", status, stderr)
+	}
+	if !strings.Contains(stdout, "least-squares") || !strings.Contains(stderr, "12 cells computed, 0 from the cache") {
+		t.Errorf("run: stdout %q\nstderr %q", stdout, stderr)
+	}
+	matches, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
+	if len(matches) != 1 {
+		t.Fatalf("result folders %v, want one tiny-<hash>", matches)
+	}
+	res := matches[0]
+	for _, f := range []string{"result.json", "timing.json", "table.md", "table.csv"} {
+		if _, err := os.Stat(filepath.Join(res, f)); err != nil {
+			t.Errorf("missing artifact: %v", err)
+		}
+	}
+	first, _ := os.ReadFile(filepath.Join(res, "result.json"))
+	var r runner.Result
+	if err := json.Unmarshal(first, &r); err != nil || r.Schema != runner.Schema || len(r.Models[0].Points) != 3 {
+		t.Errorf("result.json: err %v, schema %q", err, r.Schema)
+	}
+
+	// The second run fits nothing, says so, and writes the same result.
+	status, _, stderr = runCLI("run", "-j", "1", sp, "-o", out)
+	if status != exitOK || !strings.Contains(stderr, "0 cells computed, 12 from the cache") {
+		t.Errorf("second run: status %d, stderr %q", status, stderr)
+	}
+	again, _ := os.ReadFile(filepath.Join(res, "result.json"))
+	if !bytes.Equal(first, again) {
+		t.Errorf("result.json of the cached run (-j 1) differs from the first (-j 2)")
+	}
+
+	// report re-renders without fitting.
+	os.Remove(filepath.Join(res, "table.md"))
+	status, stdout, stderr = runCLI("report", res)
+	if status != exitOK || !strings.Contains(stdout, "least-squares") {
+		t.Errorf("report: status %d, stderr %q", status, stderr)
+	}
+	if _, err := os.Stat(filepath.Join(res, "table.md")); err != nil {
+		t.Errorf("report did not rewrite table.md: %v", err)
+	}
+}
+
+func TestBadSpecExits2AndWritesNothing(t *testing.T) {
+	dir := t.TempDir()
+	bad := strings.Replace(tinySpec, "n_train = 20", "n_train = 20\nlamda = 3", 1)
+	sp := writeSpec(t, dir, "bad.toml", bad)
+	out := filepath.Join(dir, "out")
+	status, stdout, stderr := runCLI("run", sp, "-o", out)
+	if status != exitBadInput {
+		t.Errorf("status %d, want %d", status, exitBadInput)
+	}
+	if stdout != "" || !strings.Contains(stderr, "bad.toml:5") || !strings.Contains(stderr, "lamda") {
+		t.Errorf("stderr %q should name the file, line 5 and the key", stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("a bad spec left %s on disk", out)
+	}
+	if status, _, _ := runCLI("check", sp); status != exitBadInput {
+		t.Errorf("check of a bad spec: status %d, want %d", status, exitBadInput)
+	}
+}
+
+func TestBadDataFileExits2(t *testing.T) {
+	dir := t.TempDir()
+	writeSpec(t, dir, "d.csv", "a,b,y\n1,2,3\n4,x,6\n7,8,9\n1,1,1\n2,2,2\n")
+	sp := writeSpec(t, dir, "csv.toml", `name = "csv"
+[data]
+source = "csv"
+file = "d.csv"
+target = "y"
+n_test = 2
+n_train = 2
+[[model]]
+family = "least-squares"
+[grid]
+param = "features"
+values = [1, 2]
+[seeds]
+count = 2
+`)
+	status, _, stderr := runCLI("run", sp, "-o", filepath.Join(dir, "out"))
+	if status != exitBadInput || !strings.Contains(stderr, "d.csv:3") || !strings.Contains(stderr, `"b"`) {
+		t.Errorf("status %d, stderr %q; want 2 and the file, row 3 and column b", status, stderr)
+	}
+}
+
+func TestCheckPrintsResolvedSpec(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny.toml", tinySpec)
+	status, stdout, _ := runCLI("check", sp)
+	if status != exitOK {
+		t.Fatalf("check: status %d", status)
+	}
+	for _, want := range []string{"hash", "12 (1 models × 3 grid values × 4 seeds)", "memory", `spectrum`, `start = 1`} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("check output lacks %q:\n%s", want, stdout)
+		}
+	}
+}
+
+func TestUsage(t *testing.T) {
+	for _, c := range []struct {
+		args []string
+		want int
+	}{
+		{nil, exitBadInput},
+		{[]string{"frobnicate"}, exitBadInput},
+		{[]string{"-h"}, exitOK},
+		{[]string{"run", "-h"}, exitOK},
+		{[]string{"check", "-h"}, exitOK},
+		{[]string{"report", "-h"}, exitOK},
+		{[]string{"run"}, exitBadInput},
+		{[]string{"run", "x.toml", "-j", "0"}, exitBadInput},
+		{[]string{"run", "--bogus"}, exitBadInput},
+		{[]string{"report", "/nonexistent"}, exitBadInput},
+	} {
+		if got, _, _ := runCLI(c.args...); got != c.want {
+			t.Errorf("riskgrid %v: status %d, want %d", c.args, got, c.want)
+		}
+	}
+}
