@@ -314,3 +314,66 @@ func (c cancelAfter) Path(t *models.Train, knob string, values []float64) []mode
 	}
 	return c.Fitter.Path(t, knob, values)
 }
+
+// Omitted features under Gaussian design: with Σ = I, fitting OLS on the
+// first p of d coordinates leaves X_o β_o + ε as noise independent of X_p,
+// of variance σ² + ‖β_o‖², so by the inverse-Wishart mean (as in
+// TestOLSInverseWishart) the expected excess risk given β is
+//
+//	‖β_o‖² + (σ² + ‖β_o‖²) p/(n − p − 1).
+//
+// With β uniform on the sphere of radius r, E‖β_o‖² = r²(d − p)/d (each
+// coordinate carries r²/d by symmetry). With the truth redrawn per seed
+// the run averages over β as well, so the mean risk must match the
+// expectation over β; with a fixed truth, the formula at that β.
+func TestOmittedFeaturesTruthModes(t *testing.T) {
+	const n, d, sd, r = 60, 40, 0.5, 1.0
+	for _, mode := range []string{spec.TruthFixed, spec.TruthPerSeed} {
+		s := mustParse(t, fmt.Sprintf(`
+name = "omitted"
+[data]
+source = "linear-gaussian"
+n_train = %d
+dim = %d
+n_test = 1
+truth = %q
+noise = { kind = "gaussian", sd = %g }
+signal = { kind = "sphere", norm = %g }
+[[model]]
+family = "least-squares"
+[grid]
+param = "features"
+values = [10, 25]
+[seeds]
+count = 3000
+`, n, d, mode, sd, r))
+		res, _ := mustRun(t, s, Options{})
+		if res.TruthPerSeed != (mode == spec.TruthPerSeed) {
+			t.Errorf("%s: TruthPerSeed = %v", mode, res.TruthPerSeed)
+		}
+		var beta []float64
+		if mode == spec.TruthFixed {
+			src, err := newRun(s, Options{})
+			if err != nil {
+				t.Fatal(err)
+			}
+			beta = src.prob.Beta
+		}
+		for _, pt := range res.Models[0].Points {
+			p := int(pt.Value)
+			omitted := r * r * float64(d-p) / d
+			if beta != nil {
+				omitted = 0
+				for _, b := range beta[p:] {
+					omitted += b * b
+				}
+			}
+			want := omitted + (sd*sd+omitted)*float64(p)/float64(n-p-1)
+			got := float64(pt.Risk.Mean) - sd*sd
+			t.Logf("%s p=%d: excess risk %v ± %v, want %v", mode, p, got, pt.Risk.SE, want)
+			if se := float64(pt.Risk.SE); math.Abs(got-want) > 4*se {
+				t.Errorf("%s p=%d: excess risk %v ± %v, want %v (4 SE)", mode, p, got, se, want)
+			}
+		}
+	}
+}
