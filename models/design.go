@@ -17,8 +17,8 @@ const eps = 0x1p-52
 // condMax bounds the condition number of a matrix factored by Cholesky
 // (a Gram matrix X_p X_pᵀ, a penalised normal matrix XᵀX + nλI or its dual
 // XXᵀ + nλI). A backward-stable Cholesky solve has relative forward error
-// about κ·eps (Golub & Van Loan, Matrix Computations, 4th ed. 2013, §4.2;
-// a textbook bound), so κ ≤ 1e5 keeps it near 1e5·2.2e-16 ≈ 2e-11, two
+// about κ·eps (Matrix Computations, 4th ed., Johns Hopkins University
+// Press, 2013, §4.2; a textbook bound), so κ ≤ 1e5 keeps it near 1e5·2.2e-16 ≈ 2e-11, two
 // orders of magnitude inside the 1e-9 the reference checks demand. The
 // measured errors of the Gram route in NUMERICS.md follow κ·eps (p = 201,
 // κ(G) ≈ 6e5: 1e-10; p = 210, κ(G) ≈ 7e3: 3e-13). Above the bound the

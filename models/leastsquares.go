@@ -23,8 +23,9 @@ var _ Fitter = (*LeastSquares)(nil)
 // set, and b0 = 0 otherwise. For p ≤ n with X of full column rank this is
 // the OLS estimate; for p > n (or a rank-deficient X) it is the
 // interpolating solution of least norm, lying in the row space of X.
-// Reference: the Moore–Penrose pseudoinverse solution; Golub & Van Loan,
-// Matrix Computations, 4th ed. (2013), §5.5 (textbook).
+// Reference: the Moore–Penrose pseudoinverse solution; Matrix
+// Computations, 4th ed., Johns Hopkins University Press, 2013, §5.5
+// (textbook).
 //
 // Path knobs: spec.ParamFeatures (the first p columns; nested
 // factorizations are shared across p), spec.ParamNTrain (the first n rows,

@@ -110,9 +110,9 @@ func TestFeaturesPathReference(t *testing.T) {
 					xp := sub(x, 0, p)
 					want, want0, cond := pinvFit(t, xp, y, intercept)
 					// Tolerance: a backward-stable least-squares solver has
-					// relative forward error ≲ c·eps·(κ + κ²·tanθ) (Golub & Van
-					// Loan, Matrix Computations, 4th ed. 2013, §5.3.8, textbook
-					// bound; tanθ = ‖r‖/‖ŷ‖ ≤ ~1 here). The Gram route adds
+					// relative forward error ≲ c·eps·(κ + κ²·tanθ) (Matrix
+					// Computations, 4th ed., Johns Hopkins University Press,
+					// 2013, §5.3.8, textbook bound; tanθ = ‖r‖/‖ŷ‖ ≤ ~1 here). The Gram route adds
 					// condMax·eps ≈ 2e-11 at most. Both computations err, so
 					// c = 10·max(n, p) covers the dimension factors of the bound.
 					tol := 10*float64(max(n, p))*eps*(cond+cond*cond) + 10*condMax*eps
@@ -161,8 +161,8 @@ func btoi(b bool) int {
 }
 
 // TestMinNormRowSpace checks the defining property of the minimum-norm
-// solution (textbook: X⁺y lies in the row space of X, Golub & Van Loan,
-// Matrix Computations 4th ed. 2013, §5.5.4): b = Xᵀw for some w, so the
+// solution (textbook: X⁺y lies in the row space of X; Matrix Computations,
+// 4th ed., Johns Hopkins University Press, 2013, §5.5.4): b = Xᵀw for some w, so the
 // component of b orthogonal to the row space vanishes.
 func TestMinNormRowSpace(t *testing.T) {
 	const n, d = 40, 160
@@ -188,8 +188,10 @@ func TestMinNormRowSpace(t *testing.T) {
 		perp := relDist(proj.RawVector().Data, f.Coef)
 		// Tolerance: rounding in b and in the projection, ~ p·eps·κ(X_p)
 		// with κ ≤ ~1e2 for these aspect ratios (κ is (√p+√n)/(√p−√n)
-		// for Gaussian designs, the Marchenko–Pastur edges; Marchenko and
-		// Pastur, Math. USSR-Sbornik 1967), so 1e-10 is generous.
+		// for Gaussian designs, the Marchenko–Pastur edges; "Distribution
+		// of eigenvalues for some sets of random matrices", Mathematics of
+		// the USSR-Sbornik 1(4), 1967, title from memory), so 1e-10 is
+		// generous.
 		if perp > 1e-10 {
 			t.Errorf("p=%d: ‖b − P_row b‖/‖b‖ = %g, want ≤ 1e-10 (%s)", p, perp, f.Method)
 		}

@@ -24,10 +24,10 @@ var _ Fitter = (*Ridge)(nil)
 //	df = tr(H) = Σ_j s_j²/(s_j² + nλ)  (+1 with the intercept),
 //
 // s_j the singular values of Xc. At λ = 0 the fit is the minimum-norm
-// least-squares fit (see LeastSquares). Reference: Hoerl & Kennard's ridge
-// estimator, "Ridge regression: biased estimation for nonorthogonal
-// problems", Technometrics (1970); df as tr(H): The Elements of
-// Statistical Learning, 2nd ed. (2009), §3.4.1 (textbook formulas).
+// least-squares fit (see LeastSquares). Reference: the ridge estimator of
+// "Ridge regression: biased estimation for nonorthogonal problems",
+// Technometrics 12(1), 1970; df as tr(H): The Elements of Statistical
+// Learning, 2nd ed., Springer, 2009, §3.4.1 (textbook formulas).
 //
 // Path knobs:
 //

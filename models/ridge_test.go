@@ -159,7 +159,8 @@ func TestRidgeFeaturesMatchesLambdaPath(t *testing.T) {
 					}
 					methods[f.Method] = true
 					// Tolerance: the Cholesky route errs by ≲ κ·eps with
-					// κ ≤ condMax (Golub & Van Loan 2013 §4.2, textbook), the
+					// κ ≤ condMax (Matrix Computations, 4th ed., Johns Hopkins
+					// University Press, 2013, §4.2; textbook), the
 					// SVD route by ≲ κ(X)·eps with κ(X)² ≈ want.Cond; a
 					// factor 10·max(n, p) covers the dimension constants.
 					tol := 10 * float64(max(n, p)) * eps * min(want.Cond, condMax)

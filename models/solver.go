@@ -87,15 +87,17 @@ func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Trian
 	return u, cond, true
 }
 
-// normInv estimates ‖A⁻¹‖₁ for A = UᵀU by Hager's method as refined by
-// Higham (LAPACK dlacn2, the estimator inside dpocon), applying A⁻¹ by two
+// normInv estimates ‖A⁻¹‖₁ for A = UᵀU by Hager's estimator with the
+// refinements of LAPACK dlacn2 (the estimator inside dpocon), applying A⁻¹ by two
 // plain triangular solves. dpocon solves with dlatrs, which guards against
 // overflow at twice the cost; here the factor has just passed Cholesky with
 // finite entries and the estimate is only compared with condMax, so plain
 // solves suffice (overflow would need κ near 1e308, and would show as an
 // infinite estimate, treated as failure). Reference: "FORTRAN codes for
 // estimating the one-norm of a real or complex matrix, with applications to
-// condition estimation", ACM TOMS 14 (1988).
+// condition estimation", ACM Transactions on Mathematical Software 14(4),
+// 1988; Hager's estimator: "Condition estimates", SIAM Journal on
+// Scientific and Statistical Computing 5(2), 1984 (from memory).
 func (w *solver) normInv(u blas64.Triangular, v, x []float64, isgn []int) float64 {
 	var (
 		est   float64
