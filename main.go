@@ -148,7 +148,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	status := exitOK
 	for _, s := range specs {
 		opt := runner.Options{Workers: *jobs, CacheDir: filepath.Join(*out, ".cache"), Fresh: *fresh, Log: stderr}
-		res, tm, err := runner.Run(ctx, s, opt)
+		ro, err := runner.Run(ctx, s, opt)
 		if err != nil {
 			if ctx.Err() != nil {
 				fmt.Fprintf(stderr, "riskgrid: %s: interrupted; the seeds that finished are cached\n", s.Path)
@@ -157,8 +157,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stderr, "riskgrid: %s: %v\n", s.Path, err)
 			return inputStatus(err)
 		}
+		res, tm := ro.Result, ro.Timing
 		dir := filepath.Join(*out, resultDirName(s))
-		if err := writeResult(dir, res, tm); err != nil {
+		if err := writeResult(dir, ro); err != nil {
 			fmt.Fprintf(stderr, "riskgrid: %s: %v\n", s.Path, err)
 			return exitFailed
 		}
@@ -200,7 +201,7 @@ func failedCells(res *runner.Result) int {
 
 // writeResult writes the artifacts of a run into dir: built in a temporary
 // folder beside it, then swapped in, so dir never holds a half-written set.
-func writeResult(dir string, res *runner.Result, tm *runner.Timing) (err error) {
+func writeResult(dir string, ro *runner.Output) (err error) {
 	parent := filepath.Dir(dir)
 	if err := os.MkdirAll(parent, 0o755); err != nil {
 		return err
@@ -214,7 +215,7 @@ func writeResult(dir string, res *runner.Result, tm *runner.Timing) (err error) 
 			os.RemoveAll(tmp)
 		}
 	}()
-	if err = writeArtifacts(tmp, res, tm); err != nil {
+	if err = writeArtifacts(tmp, ro); err != nil {
 		return err
 	}
 	if err = os.Chmod(tmp, 0o755); err != nil {
@@ -239,24 +240,25 @@ func writeResult(dir string, res *runner.Result, tm *runner.Timing) (err error) 
 	return nil
 }
 
-func writeArtifacts(dir string, res *runner.Result, tm *runner.Timing) error {
-	b, err := json.MarshalIndent(res, "", " ")
-	if err != nil {
-		return err
-	}
-	if err := runner.WriteFile(filepath.Join(dir, "result.json"), append(b, '\n')); err != nil {
-		return err
-	}
-	if tm != nil {
-		b, err := json.MarshalIndent(tm, "", " ")
+func writeArtifacts(dir string, ro *runner.Output) error {
+	for _, f := range []struct {
+		name   string
+		v      any
+		indent string
+	}{
+		{"result.json", ro.Result, " "},
+		{"sums.json", ro.Sums, ""}, // long number lists: no indentation
+		{"timing.json", ro.Timing, " "},
+	} {
+		b, err := json.MarshalIndent(f.v, "", f.indent)
 		if err != nil {
-			return err
+			return fmt.Errorf("%s: %w", f.name, err)
 		}
-		if err := runner.WriteFile(filepath.Join(dir, "timing.json"), append(b, '\n')); err != nil {
+		if err := runner.WriteFile(filepath.Join(dir, f.name), append(b, '\n')); err != nil {
 			return err
 		}
 	}
-	return writeTables(dir, res)
+	return writeTables(dir, ro.Result)
 }
 
 func writeTables(dir string, res *runner.Result) error {

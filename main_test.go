@@ -58,7 +58,7 @@ func TestRunWritesArtifactsAndCaches(t *testing.T) {
 		t.Fatalf("result folders %v, want one tiny-<hash>", matches)
 	}
 	res := matches[0]
-	for _, f := range []string{"result.json", "timing.json", "table.md", "table.csv"} {
+	for _, f := range []string{"result.json", "sums.json", "timing.json", "table.md", "table.csv"} {
 		if _, err := os.Stat(filepath.Join(res, f)); err != nil {
 			t.Errorf("missing artifact: %v", err)
 		}

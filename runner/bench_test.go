@@ -17,7 +17,7 @@ func BenchmarkReferenceSweep(b *testing.B) {
 		b.Fatal(err)
 	}
 	for b.Loop() {
-		if _, _, err := Run(context.Background(), s, Options{}); err != nil {
+		if _, err := Run(context.Background(), s, Options{}); err != nil {
 			b.Fatal(err)
 		}
 	}

@@ -10,17 +10,33 @@ import (
 
 // point gathers one grid point of one model across seeds.
 type point struct {
+	seeds                      []uint64
 	risk, train, gap, norm, df []float64
 	interp                     int
 	errs                       []CellError
 	sp                         *split
+	sumSq                      float64   // Σ_s ⟨e_s, e_s⟩
+	sumSqIn                    []float64 // Σ_s e_sj², test-input bases
+}
+
+// addSq adds ⟨e, e⟩ and, per input, e_j².
+func (p *point) addSq(e, w []float64, perInput bool) {
+	if perInput && p.sumSqIn == nil {
+		p.sumSqIn = make([]float64, len(e))
+	}
+	for j, v := range e {
+		p.sumSq += w[j] * v * v
+		if perInput {
+			p.sumSqIn[j] += v * v
+		}
+	}
 }
 
 // reduce reads every seed's entry in seed order (twice: the split needs the
-// mean deviation before the per-seed terms) and builds the Result. Reading
-// in a fixed order makes the Result the same bit for bit whatever the
-// number of workers.
-func (r *run) reduce() (*Result, error) {
+// mean deviation before the per-seed terms) and builds the Result and its
+// Sums. Reading in a fixed order makes both the same bit for bit whatever
+// the number of workers.
+func (r *run) reduce() (*Result, *Sums, error) {
 	w := r.weights()
 	pts := make([][]*point, len(r.models))
 	for i := range pts {
@@ -35,13 +51,13 @@ func (r *run) reduce() (*Result, error) {
 			seed := r.seed(i)
 			e, ok := r.load(seed)
 			if !ok {
-				return nil, fmt.Errorf("seed %d: cache entry vanished during the run", seed)
+				return nil, nil, fmt.Errorf("seed %d: cache entry vanished during the run", seed)
 			}
 			for mi, m := range r.models {
 				for vi, v := range r.values {
 					c, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]
 					if !ok {
-						return nil, fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
+						return nil, nil, fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
 					}
 					p := pts[mi][vi]
 					if c.Err != "" {
@@ -53,6 +69,8 @@ func (r *run) reduce() (*Result, error) {
 					r.deviation(c, e.Beta, dev)
 					if pass == 1 {
 						p.sp.add(dev)
+						p.addSq(dev, w, !r.exact)
+						p.seeds = append(p.seeds, seed)
 						p.risk = append(p.risk, c.Risk)
 						p.train = append(p.train, c.TrainRisk)
 						p.gap = append(p.gap, c.Risk-c.TrainRisk)
@@ -90,14 +108,23 @@ func (r *run) reduce() (*Result, error) {
 	default:
 		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitLumped, len(r.prob.TestY)
 	}
+	sums := &Sums{Schema: SumsSchema, Hash: res.Hash, DataKey: r.key, SplitBasis: res.SplitBasis,
+		Param: res.Param, Weights: w}
 	for mi, m := range r.models {
 		mr := ModelResult{Label: m.spec.Label, Family: m.spec.Family}
+		ms := ModelSums{Label: m.spec.Label, Key: m.key}
 		for vi, v := range r.values {
-			mr.Points = append(mr.Points, r.finish(v, pts[mi][vi], res.SplitBasis))
+			p := pts[mi][vi]
+			mr.Points = append(mr.Points, r.finish(v, p, res.SplitBasis))
+			ms.Points = append(ms.Points, PointSums{
+				Value: v, Seeds: p.seeds, Risk: p.risk, TrainRisk: p.train, Norm: p.norm, DF: p.df,
+				Interp: p.interp, SumDev: p.sp.sum, SumSqDev: p.sumSq, SumSqDevInput: p.sumSqIn,
+			})
 		}
 		res.Models = append(res.Models, mr)
+		sums.Models = append(sums.Models, ms)
 	}
-	return res, nil
+	return res, sums, nil
 }
 
 // weights is the inner product of the split: diag Σ (and 1 for the

@@ -43,12 +43,19 @@ const InterpTol = 1e-9
 // newFitter makes a model's fitter; tests replace it to plant failures.
 var newFitter = models.New
 
+// Output is what a run produces.
+type Output struct {
+	Result *Result // result.json
+	Sums   *Sums   // sums.json: the mergeable sufficient statistics
+	Timing *Timing // timing.json: what varies from run to run
+}
+
 // Run fits every cell of s (model × grid value × seed), seeds in parallel,
 // reusing cached cells, and reduces them to a Result. The Timing says how
 // many cells were computed and how many came from the cache. When ctx is
 // cancelled Run stops starting seeds, keeps in the cache every seed that
 // finished, and returns ctx's error.
-func Run(ctx context.Context, s *spec.Spec, opt Options) (*Result, *Timing, error) {
+func Run(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
 	start := time.Now()
 	if opt.Workers <= 0 {
 		opt.Workers = runtime.NumCPU()
@@ -58,14 +65,14 @@ func Run(ctx context.Context, s *spec.Spec, opt Options) (*Result, *Timing, erro
 	}
 	r, err := newRun(s, opt)
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	if err := r.fitAll(ctx); err != nil {
-		return nil, nil, err
+		return nil, err
 	}
-	res, err := r.reduce()
+	res, sums, err := r.reduce()
 	if err != nil {
-		return nil, nil, err
+		return nil, err
 	}
 	tm := &Timing{
 		Created:  start.UTC().Format(time.RFC3339),
@@ -74,7 +81,7 @@ func Run(ctx context.Context, s *spec.Spec, opt Options) (*Result, *Timing, erro
 		Cached:   int(r.cached.Load()),
 		Seconds:  time.Since(start).Seconds(),
 	}
-	return res, tm, nil
+	return &Output{Result: res, Sums: sums, Timing: tm}, nil
 }
 
 type model struct {
@@ -296,8 +303,13 @@ func (r *run) reduceFit(smp *data.Sample, v float64, f *models.Fit) *cell {
 		}
 		c.Risk = ss / float64(len(c.Pred))
 	}
-	if math.IsNaN(c.Risk) || math.IsInf(c.Risk, 0) {
-		return &cell{Err: fmt.Sprintf("non-finite risk %v (method %s)", c.Risk, f.Method)}
+	for _, v := range []struct {
+		name string
+		x    float64
+	}{{"risk", c.Risk}, {"training risk", c.TrainRisk}, {"norm", c.Norm}, {"df", c.DF}} {
+		if math.IsNaN(v.x) || math.IsInf(v.x, 0) {
+			return &cell{Err: fmt.Sprintf("non-finite %s %v (method %s)", v.name, v.x, f.Method)}
+		}
 	}
 	return c
 }

@@ -27,11 +27,11 @@ func mustParse(t testing.TB, src string) *spec.Spec {
 
 func mustRun(t testing.TB, s *spec.Spec, opt Options) (*Result, *Timing) {
 	t.Helper()
-	res, tm, err := Run(context.Background(), s, opt)
+	out, err := Run(context.Background(), s, opt)
 	if err != nil {
 		t.Fatalf("Run: %v", err)
 	}
-	return res, tm
+	return out.Result, out.Timing
 }
 
 func smallSpec(seeds int, values string) string {
@@ -290,7 +290,7 @@ func TestRunCancelKeepsFinishedSeeds(t *testing.T) {
 		f, err := models.New(m)
 		return cancelAfter{f, &calls, 10, cancel}, err
 	}
-	_, _, err := Run(ctx, s, Options{Workers: 1, CacheDir: dir})
+	_, err := Run(ctx, s, Options{Workers: 1, CacheDir: dir})
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("Run after cancel: err = %v, want context.Canceled", err)
 	}
