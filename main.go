@@ -178,15 +178,10 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return status
 }
 
-// resultDirName names a result folder by the spec's name and short hash.
+// resultDirName names a result folder by the spec's name (spec.Load
+// admits only [A-Za-z0-9._-] in it) and short hash.
 func resultDirName(s *spec.Spec) string {
-	name := strings.Map(func(r rune) rune {
-		if r == '/' || r == '\\' || r == 0 || r == ' ' {
-			return '-'
-		}
-		return r
-	}, s.Name)
-	return name + "-" + s.Hash()[:12]
+	return s.Name + "-" + s.Hash()[:12]
 }
 
 func failedCells(res *runner.Result) int {
