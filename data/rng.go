@@ -125,7 +125,12 @@ func (st *Stream) Uint64() uint64 {
 //
 //	U = (Uint64() >> 11) · 2⁻⁵³
 func (st *Stream) Float64() float64 {
-	return float64(st.Uint64()>>11) * 0x1p-53
+	return unitFloat(st.Uint64())
+}
+
+// unitFloat maps a 64-bit draw to [0, 1) by its top 53 bits.
+func unitFloat(x uint64) float64 {
+	return float64(x>>11) * 0x1p-53
 }
 
 // Normal returns a standard normal number by the polar method: draw

@@ -235,9 +235,13 @@ func TestFloat64Range(t *testing.T) {
 	if !scalar.EqualWithinAbs(mean, 0.5, tol) {
 		t.Errorf("mean Float64() = %v, want 0.5 (tol %g)", mean, tol)
 	}
-	// The top 53 bits at their extremes.
-	if got := float64(uint64(math.MaxUint64)>>11) * 0x1p-53; got >= 1 {
-		t.Errorf("largest Float64 = %v, want < 1", got)
+	// The map Float64 applies, at its extremes: all ones gives the largest
+	// float64 below 1, 1 − 2⁻⁵³ (IEEE 754-2019 binary64; exact, tol 0).
+	if got, want := unitFloat(math.MaxUint64), 1-0x1p-53; got != want {
+		t.Errorf("unitFloat(MaxUint64) = %v, want %v (tol 0)", got, want)
+	}
+	if got := unitFloat(1<<11 - 1); got != 0 {
+		t.Errorf("unitFloat(2¹¹−1) = %v, want 0 (the low 11 bits are dropped)", got)
 	}
 }
 

@@ -86,7 +86,11 @@ func relDist(a, b []float64) float64 {
 // pseudoinverse solve of the (explicitly centred, with intercept) least
 // squares problem, min-norm with the numpy cutoff max(n,p)·eps·σ_max.
 // It returns the slopes, the intercept and the 2-norm condition number of
-// the (centred) design.
+// the (centred) design restricted to its numerical rank, s_1/s_r with s_r
+// the smallest singular value above the cutoff. (Centring n rows leaves
+// rank n−1, so with an intercept and p ≥ n the smallest singular value is
+// a rounding residue near 1e-15·s_1; dividing by it would give κ ≈ 1e16 and
+// make every tolerance built from κ vacuous.)
 func pinvFit(t testing.TB, x *mat.Dense, y []float64, intercept bool) (b []float64, b0, cond float64) {
 	t.Helper()
 	n, p := x.Dims()
@@ -119,12 +123,17 @@ func pinvFit(t testing.TB, x *mat.Dense, y []float64, intercept bool) (b []float
 	tol := float64(max(n, p)) * eps * s[0]
 	var uty mat.VecDense
 	uty.MulVec(u.T(), mat.NewVecDense(n, yc))
+	rank := 0
 	for j := range s {
 		if s[j] > tol {
 			uty.SetVec(j, uty.AtVec(j)/s[j])
+			rank = j + 1
 		} else {
 			uty.SetVec(j, 0)
 		}
+	}
+	if rank == 0 {
+		t.Fatal("reference design has numerical rank 0")
 	}
 	var bv mat.VecDense
 	bv.MulVec(&v, &uty)
@@ -132,5 +141,5 @@ func pinvFit(t testing.TB, x *mat.Dense, y []float64, intercept bool) (b []float
 	if intercept {
 		b0 = ybar - floats.Dot(xbar, b)
 	}
-	return b, b0, s[0] / s[len(s)-1]
+	return b, b0, s[0] / s[rank-1]
 }

@@ -202,9 +202,18 @@ func TestRidgeLambdaZeroIsMinNorm(t *testing.T) {
 		got := (&Ridge{Intercept: true}).Path(NewTrain(xp, y), spec.ParamLambda, []float64{0, 1e-12})
 		want, want0, cond := pinvFit(t, xp, y, true)
 		tol := 10 * float64(max(30, p)) * eps * (cond + cond*cond) // as in TestFeaturesPathReference
-		for _, f := range got {
-			if e := relDist(f.Coef, want); e > max(tol, 1e-9) || !scalar.EqualWithinAbsOrRel(f.Intercept, want0, 1e-9, 1e-9) {
-				t.Errorf("p=%d: ridge λ→0 rel. distance to X⁺y %g (tol %g)", p, e, tol)
+		for i, f := range got {
+			// λ = 0: rounding only, tol. λ = 1e-12: the SVD filter
+			// factors s²/(s² + nλ) (The Elements of Statistical Learning,
+			// 2nd ed., Springer, 2009, §3.4.1) move b from X⁺y by up to
+			// nλ/s_r² relative, a truncation the rounding bound does not
+			// cover (measured 2.6e-10 at p = 30); the floor 1e-9 does.
+			lim := tol
+			if i == 1 {
+				lim = max(tol, 1e-9)
+			}
+			if e := relDist(f.Coef, want); e > lim || !scalar.EqualWithinAbsOrRel(f.Intercept, want0, lim, lim) {
+				t.Errorf("p=%d λ=%g: ridge rel. distance to X⁺y %g, intercept %v want %v (tol %g)", p, []float64{0, 1e-12}[i], e, f.Intercept, want0, lim)
 			}
 		}
 	}
