@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"strconv"
 )
 
 // integerParam reports whether a grid param takes whole values.
@@ -18,6 +19,10 @@ func integerParam(param string) bool { return param == ParamFeatures || param ==
 // v_0 = from and v_{points−1} = to exactly. For an integer knob (features,
 // n_train) each value is rounded to the nearest integer before repeats are
 // dropped, so a log grid over a short range has fewer than points values.
+// Other knobs (lambda) are rounded to 6 significant digits: the values are
+// then the ones a table prints, and they do not hang on the last bits of
+// math.Exp, which may differ between platforms (a different grid value
+// would change the spec hash).
 // points = 1 gives from. Expand assumes the inputs were checked (points ≥ 1,
 // from ≤ to, from > 0 for log); it panics otherwise.
 func Expand(param string, from, to float64, points int, spacing string, include []float64) []float64 {
@@ -39,6 +44,8 @@ func Expand(param string, from, to float64, points int, spacing string, include 
 		}
 		if integerParam(param) {
 			v = math.Round(v)
+		} else {
+			v, _ = strconv.ParseFloat(strconv.FormatFloat(v, 'g', 6, 64), 64)
 		}
 		vals = append(vals, v)
 	}
