@@ -93,10 +93,9 @@ func TestFeaturesPathReference(t *testing.T) {
 		if testing.Short() && size.n > 50 {
 			continue
 		}
-		n, d, ps := size.n, size.d, size.ps
-		_ = d
+		n, ps := size.n, size.ps
 		for seed := range size.seeds {
-			x, y := gaussian(seed, n, d)
+			x, y := gaussian(seed, n, size.d)
 			for _, intercept := range []bool{false, true} {
 				ls := &LeastSquares{Intercept: intercept}
 				fits := ls.Path(NewTrain(x, y), spec.ParamFeatures, ps)
