@@ -40,7 +40,7 @@ const usage = `riskgrid runs learning-theory experiments declared in TOML specs.
 
 Usage:
   riskgrid run SPEC… [-j N] [-o DIR] [--fresh]   fit every cell and write tables and result.json
-  riskgrid check SPEC                            validate a spec and print it resolved, with its size
+  riskgrid check SPEC [-inputs]                  validate a spec and print it resolved, with its size
   riskgrid report DIR                            re-render the tables of a result folder
 
 Run 'riskgrid COMMAND -h' for a command's options.
@@ -273,8 +273,9 @@ func writeTables(dir string, res *runner.Result) error {
 }
 
 func cmdCheck(args []string, stdout, stderr io.Writer) int {
-	fs := newFlags("check", "check SPEC", stderr)
+	fs := newFlags("check", "check SPEC [-j N] [-inputs]", stderr)
 	jobs := fs.Int("j", runtime.NumCPU(), "size the memory estimate for `N` workers")
+	inputs := fs.Bool("inputs", false, "also print every input of the spec hash, the data key and the model keys (explains a cache miss)")
 	paths, err := parse(fs, args)
 	if err != nil {
 		return flagStatus(err)
@@ -296,6 +297,14 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, plan.Paths)
 	fmt.Fprintf(stdout, "# memory about %s at peak with %d workers (estimate)\n", bytesIEC(plan.PeakBytes), *jobs)
 	fmt.Fprintf(stdout, "# resolved spec:\n%s", s.Canonical())
+	if *inputs {
+		fmt.Fprintf(stdout, "\n# inputs of the spec hash %s:\n%s", s.Hash(), s.HashInputs())
+		fmt.Fprintf(stdout, "\n# inputs of the data key %s (seeds' streams and cache entries):\n%s", s.DataKey(), s.DataKeyInputs())
+		for _, m := range s.Models {
+			fmt.Fprintf(stdout, "\n# inputs of the model key of %q %s:\n%s", m.Label,
+				spec.ModelKey(m, s.Grid.Param), spec.ModelKeyInputs(m, s.Grid.Param))
+		}
+	}
 	return exitOK
 }
 

@@ -146,6 +146,12 @@ func TestCheckPrintsResolvedSpec(t *testing.T) {
 			t.Errorf("check output lacks %q:\n%s", want, stdout)
 		}
 	}
+	_, stdout, _ = runCLI("check", sp, "-inputs")
+	for _, want := range []string{"inputs of the data key", `data.noise.sd "0.5"`, `model.family "least-squares"`} {
+		if !strings.Contains(stdout, want) {
+			t.Errorf("check -inputs output lacks %q:\n%s", want, stdout)
+		}
+	}
 }
 
 func TestUsage(t *testing.T) {
