@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"runtime"
 	"sort"
+	"sync"
 
 	"riskgrid/spec"
 )
@@ -47,17 +48,12 @@ func (r *run) reduce() (*Result, *Sums, error) {
 	}
 	dev := make([]float64, len(w))
 	for pass := 1; pass <= 2; pass++ {
-		for i := 0; i < r.s.Seeds.Count; i++ {
-			seed := r.seed(i)
-			e, ok := r.load(seed)
-			if !ok {
-				return nil, nil, fmt.Errorf("seed %d: cache entry vanished during the run", seed)
-			}
+		err := r.inOrder(func(seed uint64, e *entry) error {
 			for mi, m := range r.models {
 				for vi, v := range r.values {
 					c, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]
 					if !ok {
-						return nil, nil, fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
+						return fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
 					}
 					p := pts[mi][vi]
 					if c.Err != "" {
@@ -84,6 +80,10 @@ func (r *run) reduce() (*Result, *Sums, error) {
 					}
 				}
 			}
+			return nil
+		})
+		if err != nil {
+			return nil, nil, err
 		}
 	}
 	res := &Result{
@@ -125,6 +125,36 @@ func (r *run) reduce() (*Result, *Sums, error) {
 		sums.Models = append(sums.Models, ms)
 	}
 	return res, sums, nil
+}
+
+// inOrder calls fn with every seed's entry in seed order. Entries are read
+// and decoded opt.Workers at a time, a block of seeds ahead of fn, so the
+// folding stays in a fixed order while the decoding runs in parallel; at
+// most one block of entries is held at once.
+func (r *run) inOrder(fn func(seed uint64, e *entry) error) error {
+	block := max(r.opt.Workers, 1)
+	entries := make([]*entry, block)
+	for lo := 0; lo < r.s.Seeds.Count; lo += block {
+		hi := min(lo+block, r.s.Seeds.Count)
+		var wg sync.WaitGroup
+		for i := lo; i < hi; i++ {
+			wg.Go(func() {
+				e, _ := r.load(r.seed(i))
+				entries[i-lo] = e
+			})
+		}
+		wg.Wait()
+		for i := lo; i < hi; i++ {
+			e := entries[i-lo]
+			if e == nil {
+				return fmt.Errorf("seed %d: cache entry vanished during the run", r.seed(i))
+			}
+			if err := fn(r.seed(i), e); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
 }
 
 // weights is the inner product of the split: diag Σ (and 1 for the
