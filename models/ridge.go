@@ -38,10 +38,11 @@ var _ Fitter = (*Ridge)(nil)
 //   - spec.ParamFeatures (the first p columns, the penalty Lambda): for
 //     p ≤ m the leading p×p block of XᵀX over the leading columns gives
 //     XpᵀXp + nλI ("cholesky"); for p > m the dual Gram matrix XpXpᵀ + nλI,
-//     updated as columns are added ("gram-cholesky"). Cond is LAPACK's
-//     1-norm estimate of the factored matrix (LAPACK dlacn2, as in dpocon). If it exceeds 1e5
-//     (see condMax) or the factorization fails, that p is solved by the
-//     SVD instead ("svd"). Lambda = 0 runs the LeastSquares path.
+//     updated as columns are added ("gram-cholesky"). Cond is the a-priori
+//     bound ‖A‖₁·√m/(nλ) ≥ κ₁(A) of the factored matrix A when that is at
+//     most 1e5 (see condMax), otherwise LAPACK's 1-norm estimate (dlacn2,
+//     as in dpocon). If the estimate exceeds 1e5 or the factorization
+//     fails, that p is solved by the SVD instead ("svd"). Lambda = 0 runs the LeastSquares path.
 //   - spec.ParamNTrain (the first n rows, every column): one fit per value
 //     as for features at p = all columns.
 //

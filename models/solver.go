@@ -65,6 +65,15 @@ func (gr *gram) extend(p int) {
 // plus shift·I into the solver's factor buffer and factors it, A = UᵀU. It
 // returns the factor and a 1-norm estimate of κ₁(A) = ‖A‖₁‖A⁻¹‖₁ (see normInv), and
 // ok = false when A is not numerically positive definite.
+//
+// With shift > 0 (ridge: s is a Gram matrix, positive semi-definite, so
+// λ_min(A) ≥ shift) there is an a-priori bound
+//
+//	κ₁(A) = ‖A‖₁‖A⁻¹‖₁ ≤ ‖A‖₁·√n·‖A⁻¹‖₂ ≤ ‖A‖₁·√n/shift
+//
+// (‖B‖₁ ≤ √n‖B‖₂, a textbook norm inequality: Matrix Computations, 4th ed.,
+// Johns Hopkins University Press, 2013, §2.3.2). When the bound is already
+// at most condMax the estimate is skipped and the bound is returned as cond.
 func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Triangular, cond float64, ok bool) {
 	f := grow(&w.f, n*n)
 	for i := range n {
@@ -78,6 +87,11 @@ func (w *solver) cholesky(s []float64, n, st int, shift float64) (u blas64.Trian
 	u, ok = lapack64.Potrf(a)
 	if !ok {
 		return u, 0, false
+	}
+	if shift > 0 {
+		if bound := anorm * math.Sqrt(float64(n)) / shift; bound <= condMax {
+			return u, bound, true
+		}
 	}
 	inv := w.normInv(u, work[:n], work[n:2*n], iwork)
 	cond = anorm * inv
