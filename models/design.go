@@ -9,6 +9,8 @@ import (
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
+
+	"riskgrid/spec"
 )
 
 // eps is the float64 machine epsilon 2^-52 (numpy's finfo(float).eps).
@@ -197,6 +199,24 @@ func ascending(ps []int) []int {
 }
 
 // failAll sets err on every fit that has no error yet.
+// eachRows fits every value of the n_train knob on its own design: the
+// first n rows, all columns, one path of a single p = all columns.
+func eachRows(t *Train, fits []Fit, values []float64, intercept bool, fit func(d *design, ps []int, fits []Fit)) {
+	rows, cols := checkShape(t.X, t.Y)
+	ns, _ := counts(fits, spec.ParamNTrain, values, rows, "rows")
+	for i, n := range ns {
+		if n == 0 {
+			continue
+		}
+		d, err := t.design(n, cols, intercept, false)
+		if err != nil {
+			fits[i].Err = err
+			continue
+		}
+		fit(d, []int{cols}, fits[i:i+1])
+	}
+}
+
 func failAll(fits []Fit, err error) {
 	for i := range fits {
 		if fits[i].Err == nil {

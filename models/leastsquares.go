@@ -74,18 +74,7 @@ func (ls *LeastSquares) Path(t *Train, knob string, values []float64) []Fit {
 		}
 		w.leastSquares(d, ps, fits)
 	case spec.ParamNTrain:
-		ns, _ := counts(fits, knob, values, rows, "rows")
-		for i, n := range ns {
-			if n == 0 {
-				continue
-			}
-			d, err := t.design(n, cols, ls.Intercept, false)
-			if err != nil {
-				fits[i].Err = err
-				continue
-			}
-			w.leastSquares(d, []int{cols}, fits[i:i+1])
-		}
+		eachRows(t, fits, values, ls.Intercept, w.leastSquares)
 	case spec.ParamLambda:
 		failAll(fits, fmt.Errorf("%w: %s (least squares has no penalty; accepted: %s, %s)",
 			ErrKnob, knob, spec.ParamFeatures, spec.ParamNTrain))

@@ -128,18 +128,7 @@ func (r *Ridge) Path(t *Train, knob string, values []float64) []Fit {
 		fit(d, ps, fits)
 		return fits
 	}
-	ns, _ := counts(fits, knob, values, rows, "rows")
-	for i, n := range ns {
-		if n == 0 {
-			continue
-		}
-		d, err := t.design(n, cols, r.Intercept, false)
-		if err != nil {
-			fits[i].Err = err
-			continue
-		}
-		fit(d, []int{cols}, fits[i:i+1])
-	}
+	eachRows(t, fits, values, r.Intercept, fit)
 	return fits
 }
 
@@ -196,19 +185,7 @@ func (w *solver) primalRidge(d *design, k, p int, lambda, nl float64, f *Fit) {
 	b := make([]float64, p)
 	copy(b, w.xty[:p])
 	cholSolve(u, b)
-	rss := d.rss(b, grow(&w.res, d.m))
-	tr, ok := traceInv(u)
-	if !ok {
-		w.svdRidge(d, p, lambda, f)
-		return
-	}
-	df := float64(p) - nl*tr
-	if df < float64(p)/4 {
-		bm := w.copyCols(d, p)
-		blas64.Trmm(blas.Right, blas.NoTrans, 1, u, bm)
-		df = frob2(bm)
-	}
-	d.finish(f, b, rss, df, cond, "cholesky")
+	w.finishRidge(d, u, p, b, lambda, nl, cond, p, blas.Right, blas.NoTrans, "cholesky", f)
 }
 
 // dualRidge solves b = A_pᵀ(G_p + nλI)⁻¹y, df = m − nλ·tr((G_p + nλI)⁻¹),
@@ -225,19 +202,30 @@ func (w *solver) dualRidge(d *design, gr *gram, p int, lambda, nl float64, f *Fi
 	cholSolve(u, alpha)
 	b := make([]float64, p)
 	blas64.Gemv(blas.Trans, 1, d.cols(p), blas64.Vector{N: m, Inc: 1, Data: alpha}, 0, blas64.Vector{N: p, Inc: 1, Data: b})
-	rss := d.rss(b, grow(&w.res, m))
+	w.finishRidge(d, u, p, b, lambda, nl, cond, m, blas.Left, blas.Trans, "gram-cholesky", f)
+}
+
+// finishRidge sets the training risk and df of the ridge fit b on the first
+// p columns from the Cholesky factor u of the k×k system matrix A (k = p,
+// primal; k = m, dual): df = k − nλ·tr(A⁻¹), or, when that is below k/4 and
+// the subtraction would lose bits, the positive sum ‖A_p U⁻¹‖_F² (primal:
+// multiply by U⁻¹ from the right) or ‖U⁻ᵀA_p‖_F² (dual: U⁻ᵀ from the left).
+// u is overwritten by its inverse.
+func (w *solver) finishRidge(d *design, u blas64.Triangular, p int, b []float64, lambda, nl, cond float64,
+	k int, side blas.Side, trans blas.Transpose, method string, f *Fit) {
+	rss := d.rss(b, grow(&w.res, d.m))
 	tr, ok := traceInv(u)
 	if !ok {
 		w.svdRidge(d, p, lambda, f)
 		return
 	}
-	df := float64(m) - nl*tr
-	if df < float64(m)/4 {
+	df := float64(k) - nl*tr
+	if df < float64(k)/4 {
 		bm := w.copyCols(d, p)
-		blas64.Trmm(blas.Left, blas.Trans, 1, u, bm)
+		blas64.Trmm(side, trans, 1, u, bm)
 		df = frob2(bm)
 	}
-	d.finish(f, b, rss, df, cond, "gram-cholesky")
+	d.finish(f, b, rss, df, cond, method)
 }
 
 // svdRidge is the stable fallback for one p.
