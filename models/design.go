@@ -199,6 +199,22 @@ func ascending(ps []int) []int {
 }
 
 // failAll sets err on every fit that has no error yet.
+// nestedColumns fits the features knob: one design of the first p_max
+// columns, shared through t with the next model, serves the whole path.
+func nestedColumns(t *Train, fits []Fit, values []float64, intercept bool, fit func(d *design, ps []int, fits []Fit)) {
+	rows, cols := checkShape(t.X, t.Y)
+	ps, top := counts(fits, spec.ParamFeatures, values, cols, "columns")
+	if top == 0 {
+		return
+	}
+	d, err := t.design(rows, top, intercept, true)
+	if err != nil {
+		failAll(fits, err)
+		return
+	}
+	fit(d, ps, fits)
+}
+
 // eachRows fits every value of the n_train knob on its own design: the
 // first n rows, all columns, one path of a single p = all columns.
 func eachRows(t *Train, fits []Fit, values []float64, intercept bool, fit func(d *design, ps []int, fits []Fit)) {

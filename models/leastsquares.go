@@ -58,21 +58,12 @@ type LeastSquares struct {
 // Path fits the path; see the type documentation. It panics if len(y) is
 // not the number of rows of x.
 func (ls *LeastSquares) Path(t *Train, knob string, values []float64) []Fit {
-	rows, cols := checkShape(t.X, t.Y)
+	checkShape(t.X, t.Y)
 	fits := make([]Fit, len(values))
 	var w solver
 	switch knob {
 	case spec.ParamFeatures:
-		ps, top := counts(fits, knob, values, cols, "columns")
-		if top == 0 {
-			return fits
-		}
-		d, err := t.design(rows, top, ls.Intercept, true)
-		if err != nil {
-			failAll(fits, err)
-			return fits
-		}
-		w.leastSquares(d, ps, fits)
+		nestedColumns(t, fits, values, ls.Intercept, w.leastSquares)
 	case spec.ParamNTrain:
 		eachRows(t, fits, values, ls.Intercept, w.leastSquares)
 	case spec.ParamLambda:

@@ -116,16 +116,7 @@ func (r *Ridge) Path(t *Train, knob string, values []float64) []Fit {
 		}
 	}
 	if knob == spec.ParamFeatures {
-		ps, top := counts(fits, knob, values, cols, "columns")
-		if top == 0 {
-			return fits
-		}
-		d, err := t.design(rows, top, r.Intercept, true)
-		if err != nil {
-			failAll(fits, err)
-			return fits
-		}
-		fit(d, ps, fits)
+		nestedColumns(t, fits, values, r.Intercept, fit)
 		return fits
 	}
 	eachRows(t, fits, values, r.Intercept, fit)
