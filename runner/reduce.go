@@ -11,13 +11,13 @@ import (
 
 // point gathers one grid point of one model across seeds.
 type point struct {
-	seeds                      []uint64
-	risk, train, gap, norm, df []float64
-	interp                     int
-	errs                       []CellError
-	sp                         *split
-	sumSq                      float64   // Σ_s ⟨e_s, e_s⟩
-	sumSqIn                    []float64 // Σ_s e_sj², test-input bases
+	seeds                 []uint64
+	risk, train, norm, df []float64
+	interp                int
+	errs                  []CellError
+	sp                    *split
+	sumSq                 float64   // Σ_s ⟨e_s, e_s⟩
+	sumSqIn               []float64 // Σ_s e_sj², test-input bases
 }
 
 // addSq adds ⟨e, e⟩ and, per input, e_j².
@@ -69,7 +69,6 @@ func (r *run) reduce() (*Result, *Sums, error) {
 						p.seeds = append(p.seeds, seed)
 						p.risk = append(p.risk, c.Risk)
 						p.train = append(p.train, c.TrainRisk)
-						p.gap = append(p.gap, c.Risk-c.TrainRisk)
 						p.norm = append(p.norm, c.Norm)
 						p.df = append(p.df, c.DF)
 						if c.Interp {
@@ -197,6 +196,15 @@ func (r *run) deviation(c *cell, seedBeta []float64, dst []float64) {
 	}
 }
 
+// gaps returns risk − train per seed (the gap is paired).
+func gaps(risk, train []float64) []float64 {
+	g := make([]float64, len(risk))
+	for i := range g {
+		g[i] = risk[i] - train[i]
+	}
+	return g
+}
+
 func est(xs []float64) Estimate {
 	m, se := meanSE(xs)
 	return Estimate{Mean: Num(m), SE: Num(se)}
@@ -208,7 +216,7 @@ func (r *run) finish(v float64, p *point, basis string) Point {
 		Seeds:     len(p.risk),
 		Risk:      est(p.risk),
 		TrainRisk: est(p.train),
-		Gap:       est(p.gap),
+		Gap:       est(gaps(p.risk, p.train)),
 		Norm:      est(p.norm),
 		DF:        est(p.df),
 		Errors:    p.errs,
@@ -228,7 +236,7 @@ func (r *run) finish(v float64, p *point, basis string) Point {
 	pt.RiskQ1 = Num(quantile(sorted, 0.25))
 	pt.RiskMedian = Num(quantile(sorted, 0.5))
 	pt.RiskQ3 = Num(quantile(sorted, 0.75))
-	pt.HeavyTail = heavyTail(p.risk)
+	pt.HeavyTail = heavyTail(sorted)
 	if len(p.risk) > 0 {
 		pt.Interpolating = Num(float64(p.interp) / float64(len(p.risk)))
 	} else {

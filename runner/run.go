@@ -241,10 +241,16 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 		e.Beta = smp.Beta
 	}
 	train := models.NewTrain(smp.X, smp.Y) // shared by the models of this seed
+	// ysq[k] = Σ_{i<k} y_i², the scale of the interpolation test for the
+	// first k rows, once per seed rather than once per cell.
+	ysq := make([]float64, len(smp.Y)+1)
+	for i, y := range smp.Y {
+		ysq[i+1] = ysq[i] + y*y
+	}
 	for _, w := range work {
 		fits := safePath(w.m.fitter, train, r.s.Grid.Param, w.values)
 		for i, v := range w.values {
-			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v)] = r.reduceFit(smp, v, &fits[i])
+			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v)] = r.reduceFit(smp, ysq, v, &fits[i])
 		}
 		r.computed.Add(int64(len(w.values)))
 	}
@@ -269,8 +275,9 @@ func safePath(f models.Fitter, t *models.Train, knob string, values []float64) (
 	return fits
 }
 
-// reduceFit keeps of a fit what the reduction needs, and its risk.
-func (r *run) reduceFit(smp *data.Sample, v float64, f *models.Fit) *cell {
+// reduceFit keeps of a fit what the reduction needs, and its risk. ysq
+// holds the prefix sums of y².
+func (r *run) reduceFit(smp *data.Sample, ysq []float64, v float64, f *models.Fit) *cell {
 	if f.Err != nil {
 		return &cell{Err: f.Err.Error()}
 	}
@@ -282,11 +289,7 @@ func (r *run) reduceFit(smp *data.Sample, v float64, f *models.Fit) *cell {
 	if r.s.Grid.Param == spec.ParamNTrain {
 		n = int(v)
 	}
-	var yy float64
-	for _, y := range smp.Y[:n] {
-		yy += y * y
-	}
-	c.Interp = f.TrainRisk <= InterpTol*yy/float64(n)
+	c.Interp = f.TrainRisk <= InterpTol*ysq[n]/float64(n)
 	if r.exact {
 		c.Coef = f.Coef
 		beta := r.prob.Beta

@@ -2,7 +2,6 @@ package runner
 
 import (
 	"math"
-	"sort"
 )
 
 // meanSE returns the sample mean of xs and its standard error
@@ -45,22 +44,20 @@ func quantile(sorted []float64, q float64) float64 {
 	return sorted[lo] + (h-float64(lo))*(sorted[lo+1]-sorted[lo])
 }
 
-// heavyTail reports whether the largest ⌈S/20⌉ values (at least one) carry
-// at least half of the total of the non-negative values xs: the mean is
-// then an average of a few seeds, and the median is the honest summary.
-// The rule is ours; it is meant to catch the interpolation threshold,
-// where the risk has no finite mean.
-func heavyTail(xs []float64) bool {
-	if len(xs) < 4 {
+// heavyTail reports whether the largest ⌈S/20⌉ values (at least one) of
+// the sorted non-negative values carry at least half of their total: the
+// mean is then an average of a few seeds, and the median is the honest
+// summary. The rule is ours; it is meant to catch the interpolation
+// threshold, where the risk has no finite mean.
+func heavyTail(sorted []float64) bool {
+	if len(sorted) < 4 {
 		return false
 	}
-	s := append([]float64(nil), xs...)
-	sort.Float64s(s)
-	k := (len(s) + 19) / 20
+	k := (len(sorted) + 19) / 20
 	var total, top float64
-	for i, x := range s {
+	for i, x := range sorted {
 		total += x
-		if i >= len(s)-k {
+		if i >= len(sorted)-k {
 			top += x
 		}
 	}
