@@ -157,11 +157,7 @@ func (w *solver) gramFit(d *design, gr *gram, p int, f *Fit) {
 		w.qrTranspose(d, p, f)
 		return
 	}
-	alpha := grow(&w.alpha, m)
-	copy(alpha, d.y)
-	cholSolve(u, alpha)
-	b := make([]float64, p)
-	blas64.Gemv(blas.Trans, 1, d.cols(p), blas64.Vector{N: m, Inc: 1, Data: alpha}, 0, blas64.Vector{N: p, Inc: 1, Data: b})
+	b := w.dualSolve(d, u, p)
 	d.finish(f, b, d.rss(b, grow(&w.res, m)), float64(m), math.Sqrt(cond), "gram-cholesky")
 }
 

@@ -188,11 +188,7 @@ func (w *solver) dualRidge(d *design, gr *gram, p int, lambda, nl float64, f *Fi
 		w.svdRidge(d, p, lambda, f)
 		return
 	}
-	alpha := grow(&w.alpha, m)
-	copy(alpha, d.y)
-	cholSolve(u, alpha)
-	b := make([]float64, p)
-	blas64.Gemv(blas.Trans, 1, d.cols(p), blas64.Vector{N: m, Inc: 1, Data: alpha}, 0, blas64.Vector{N: p, Inc: 1, Data: b})
+	b := w.dualSolve(d, u, p)
 	w.finishRidge(d, u, p, b, lambda, nl, cond, m, blas.Left, blas.Trans, "gram-cholesky", f)
 }
 

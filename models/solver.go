@@ -129,6 +129,18 @@ func (w *solver) normInv(u blas64.Triangular, v, x []float64, isgn []int) float6
 
 var lapackImpl gonum.Implementation
 
+// dualSolve returns b = A_pᵀ α with α = A⁻¹y, A = UᵀU the factored m×m
+// dual matrix (A_pA_pᵀ, plus nλI for ridge): the fit of the dual form.
+func (w *solver) dualSolve(d *design, u blas64.Triangular, p int) []float64 {
+	m := d.m
+	alpha := grow(&w.alpha, m)
+	copy(alpha, d.y)
+	cholSolve(u, alpha)
+	b := make([]float64, p)
+	blas64.Gemv(blas.Trans, 1, d.cols(p), blas64.Vector{N: m, Inc: 1, Data: alpha}, 0, blas64.Vector{N: p, Inc: 1, Data: b})
+	return b
+}
+
 // cholSolve overwrites x with A⁻¹x for A = UᵀU.
 func cholSolve(u blas64.Triangular, x []float64) {
 	v := blas64.Vector{N: u.N, Inc: 1, Data: x}
