@@ -203,12 +203,11 @@ func (r *run) fitAll(ctx context.Context) error {
 
 // fitSeed fits the missing cells of one seed from one draw shared by every
 // model and grid value, and returns the seed's entry and whether it gained
-// cells (and so must be stored).
+// cells (and so must be stored). With Fresh every cell of this spec counts
+// as missing and is refitted; cells the entry holds for other specs (other
+// models or grid values on the same data) are kept.
 func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
-	var e *entry
-	if !r.opt.Fresh {
-		e, _ = r.load(seed)
-	}
+	e, _ := r.load(seed)
 	if e == nil {
 		e = &entry{Cells: map[string]*cell{}}
 	}
@@ -221,7 +220,7 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 		m := &r.models[i]
 		var missing []float64
 		for _, v := range r.values {
-			if _, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]; !ok {
+			if _, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]; !ok || r.opt.Fresh {
 				missing = append(missing, v)
 			}
 		}

@@ -220,6 +220,10 @@ func TestRunCache(t *testing.T) {
 	if !bytes.Equal(resultJSON(t, first), resultJSON(t, fresh)) {
 		t.Errorf("fresh result differs from the first one")
 	}
+	// ... and keeps the cells of the grown spec that it did not refit.
+	if _, tm = mustRun(t, mustParse(t, smallSpec(8, "5, 20, 30, 40")), opt); tm.Computed != 0 {
+		t.Errorf("after a fresh run of a subset, the grown spec recomputed %d cells, want 0", tm.Computed)
+	}
 }
 
 func TestRunCorruptedCacheIsRecomputed(t *testing.T) {
