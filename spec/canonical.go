@@ -68,6 +68,9 @@ func (s *Spec) Canonical() string {
 	kv("count", strconv.Itoa(s.Seeds.Count))
 	kv("start", strconv.FormatUint(s.Seeds.Start, 10))
 	kv("truth", strconv.FormatUint(s.Seeds.Truth, 10))
+
+	b.WriteString("\n[tables]\n")
+	kv("se_style", tomlString(s.Tables.SEStyle))
 	return b.String()
 }
 

@@ -87,7 +87,7 @@ func TestParseErrors(t *testing.T) {
 		{"nan", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 50\nnoise = { sd = nan } #<\n"}, "data.noise.sd", "a finite number"},
 
 		// Unknown keys.
-		{"unknown top", pieces{top: "name = \"t\"\nseed = 1 #<\n"}, "seed", "unknown key (known: name, about, data, model, grid, seeds)"},
+		{"unknown top", pieces{top: "name = \"t\"\nseed = 1 #<\n"}, "seed", "unknown key (known: name, about, data, model, grid, seeds, tables)"},
 		{"unknown data", pieces{data: gen("dimension = 3 #<")}, "data.dimension", "unknown key (known: source, n_train, n_test, dim,"},
 		{"unknown model", pieces{model: ls + ridge + "lamda = 3 #<\n"}, "model[2].lamda", "unknown key (known: family, label, lambda, intercept)"},
 		{"unknown spectrum", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 50\nnoise = { sd = 0.5 }\n[data.spectrum]\nkind = \"power-law\"\nexponant = 1 #<\n"}, "data.spectrum.exponant", "unknown key (known: kind, exponent, spikes, high, low, values)"},
@@ -188,6 +188,12 @@ func TestParseErrors(t *testing.T) {
 		{"duplicate labels", pieces{model: "[[model]]\nfamily = \"ridge\"\nlambda = 1\nlabel = \"m\"\n[[model]]\nfamily = \"least-squares\"\nlabel = \"m\" #<\n"}, "model[2].label", `label "m" is already used by model[1] (accepted: labels unique within the spec; set label)`},
 		{"duplicate default labels", pieces{model: ridge + "[[model]] #<\nfamily = \"ridge\"\nlambda = 0.1\n"}, "model[2]", `label "ridge λ=0.1" is already used by model[1]`},
 		{"blank label", pieces{model: ls + "label = \" \" #<\n"}, "model[1].label", "is blank (accepted: a non-empty name"},
+
+		// [tables]: presentation settings, strict like the rest.
+		{"tables unknown key", pieces{seeds: seedsOK + "[tables]\nse_style = \"plus-minus\"\nse_stlye = \"x\" #<\n"}, "tables.se_stlye", "unknown key (known: se_style)"},
+		{"tables unknown style", pieces{seeds: seedsOK + "[tables]\nse_style = \"pm\" #<\n"}, "tables.se_style", `unknown se_style "pm" (accepted: "parentheses", "plus-minus")`},
+		{"tables style type", pieces{seeds: seedsOK + "[tables]\nse_style = 1 #<\n"}, "tables.se_style", "has type integer (accepted: a string)"},
+		{"tables not a table", pieces{top: "name = \"t\"\ntables = \"plus-minus\" #<\n"}, "tables", "has type string (accepted: a table"},
 	}
 	for _, tc := range tests {
 		t.Run(tc.name, func(t *testing.T) {

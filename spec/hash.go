@@ -52,6 +52,13 @@ func (w *stream) sum() string {
 // (name, about and labels too, since they appear in the outputs), DataHash
 // and Engine. It names the result folder. For a csv source it is meaningful
 // after Load, which sets DataHash.
+//
+// [tables] is left out on purpose: it says how numbers are printed, not
+// which numbers, so a colleague who prefers 1.234 ± 0.012 to 1.234 (0.012)
+// reruns the same study under the same hash and result folder, and checks
+// the hash against ours. It is likewise out of DataKey and ModelKey, so it
+// never changes which cells are cached. The canonical form (spec_toml in
+// result.json) does record it, so that `report` re-renders the same way.
 func (s *Spec) Hash() string { return s.hashStream().sum() }
 
 // HashInputs returns the line stream hashed by Hash, to explain a cache miss.

@@ -88,6 +88,8 @@ start = 1
 truth = 0
 `,
 		"canonical": base.Canonical(),
+		// Presentation only: same numbers, same hash and cache keys.
+		"tables style": hashBase + "[tables]\nse_style = \"plus-minus\"\n",
 	}
 	for name, src := range same {
 		s := mustParse(t, src)

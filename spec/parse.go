@@ -22,13 +22,14 @@ var (
 	families   = []string{FamilyLeastSquares, FamilyRidge}
 	params     = []string{ParamFeatures, ParamLambda, ParamNTrain}
 	spacings   = []string{SpacingLinear, SpacingLog}
-	topKeys    = []string{"name", "about", "data", "model", "grid", "seeds"}
+	topKeys    = []string{"name", "about", "data", "model", "grid", "seeds", "tables"}
 	commonData = []string{"source", "n_train", "n_test"}
 	genData    = []string{"dim", "spectrum", "signal", "noise", "truth"}
 	csvData    = []string{"file", "target", "features", "test_fraction", "sampling"}
 	modelKeys  = []string{"family", "label", "lambda", "intercept"}
 	gridKeys   = []string{"param", "values", "from", "to", "points", "spacing", "include"}
 	seedKeys   = []string{"count", "start", "truth"}
+	tablesKeys = []string{"se_style"}
 
 	spectrumKeys = map[string][]string{
 		SpectrumIsotropic: {"kind"},
@@ -169,6 +170,9 @@ func (d *decoder) spec(root table) (*Spec, error) {
 		return nil, err
 	}
 	if err := d.labels(s); err != nil {
+		return nil, err
+	}
+	if err := d.tables(root, s); err != nil {
 		return nil, err
 	}
 	return s, nil
@@ -595,4 +599,17 @@ func (d *decoder) seeds(root table, s *Spec) error {
 	}
 	s.Seeds.Truth = uint64(truth)
 	return nil
+}
+
+// tables reads the optional [tables] presentation settings.
+func (d *decoder) tables(root table, s *Spec) error {
+	t, _, err := d.sub(root, "tables")
+	if err != nil {
+		return err
+	}
+	if err := d.known(t, tablesKeys); err != nil {
+		return err
+	}
+	s.Tables.SEStyle, err = d.choice(t, "se_style", SEStyles, SEParentheses)
+	return err
 }

@@ -37,6 +37,7 @@ func TestDefaults(t *testing.T) {
 		Models: []Model{{Family: FamilyLeastSquares, Label: "least-squares"}},
 		Grid:   Grid{Param: ParamFeatures, Values: []float64{10, 20}},
 		Seeds:  Seeds{Count: 3, Start: 1, Truth: 0},
+		Tables: Tables{SEStyle: SEParentheses},
 	}
 	if !reflect.DeepEqual(s, want) {
 		t.Errorf("Parse(minimal) =\n%+v\nwant\n%+v", s, want)
@@ -167,8 +168,9 @@ var roundTripSpecs = map[string]string{
 		data: "[data]\nsource = \"linear-gaussian\"\ndim = 10\nnoise = { sd = 1 }\n",
 		grid: "[grid]\nparam = \"n_train\"\nfrom = 2\nto = 40\npoints = 5\n",
 	}.src(),
-	"csv fraction": pieces{data: csvOK + "test_fraction = 0.1\nsampling = \"bootstrap\"\nfeatures = [\"b\", \"a\"]\n", grid: "[grid]\nparam = \"features\"\nvalues = [1, 2]\n"}.src(),
-	"csv n_test":   pieces{data: csvOK + "n_test = 7\n", model: "[[model]]\nfamily = \"ridge\"\nlambda = 3\n"}.src(),
+	"csv fraction":      pieces{data: csvOK + "test_fraction = 0.1\nsampling = \"bootstrap\"\nfeatures = [\"b\", \"a\"]\n", grid: "[grid]\nparam = \"features\"\nvalues = [1, 2]\n"}.src(),
+	"csv n_test":        pieces{data: csvOK + "n_test = 7\n", model: "[[model]]\nfamily = \"ridge\"\nlambda = 3\n"}.src(),
+	"plus-minus tables": pieces{seeds: seedsOK + "[tables]\nse_style = \"plus-minus\"\n"}.src(),
 }
 
 func TestCanonicalRoundTrip(t *testing.T) {
@@ -221,5 +223,19 @@ func TestTestSize(t *testing.T) {
 		if got := tc.d.TestSize(tc.rows); got != tc.want {
 			t.Errorf("TestSize(%d) with %+v = %d, want %d", tc.rows, tc.d, got, tc.want)
 		}
+	}
+}
+
+// TestTables checks the [tables] default and that the style is read.
+func TestTables(t *testing.T) {
+	if got := mustParse(t, pieces{}.src()).Tables.SEStyle; got != SEParentheses {
+		t.Errorf("default se_style = %q, want %q", got, SEParentheses)
+	}
+	s := mustParse(t, pieces{seeds: seedsOK + "[tables]\nse_style = \"plus-minus\"\n"}.src())
+	if s.Tables.SEStyle != SEPlusMinus {
+		t.Errorf("se_style = %q, want %q", s.Tables.SEStyle, SEPlusMinus)
+	}
+	if c := s.Canonical(); !strings.Contains(c, "[tables]\nse_style = \"plus-minus\"\n") {
+		t.Errorf("Canonical() does not record the style:\n%s", c)
 	}
 }

@@ -16,6 +16,9 @@ type Spec struct {
 	Models []Model `toml:"model"`
 	Grid   Grid    `toml:"grid"`
 	Seeds  Seeds   `toml:"seeds"`
+	// Tables sets how the tables are printed. It changes no number, so it
+	// enters neither Hash nor the cache keys (see hash.go).
+	Tables Tables `toml:"tables"`
 
 	// Path is the file the spec was read from ("" when built in code).
 	Path string `toml:"-"`
@@ -198,4 +201,22 @@ type Seeds struct {
 	// test split. Default 0. It is kept apart from Start and Count so
 	// that adding seeds does not change the distribution.
 	Truth uint64 `toml:"truth"`
+}
+
+// Standard-error styles: how a table prints a mean with its standard error.
+const (
+	SEParentheses = "parentheses" // 1.234 (0.012)
+	SEPlusMinus   = "plus-minus"  // 1.234 ± 0.012
+)
+
+// SEStyles lists the accepted se_style values, the default first.
+var SEStyles = []string{SEParentheses, SEPlusMinus}
+
+// Tables holds presentation settings of the tables: they decide how numbers
+// are printed, never which numbers.
+type Tables struct {
+	// SEStyle is how table.tex prints a mean with its standard error:
+	// SEParentheses (default) or SEPlusMinus. A flag of run and report
+	// overrides it.
+	SEStyle string `toml:"se_style"`
 }
