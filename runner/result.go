@@ -40,6 +40,12 @@ type Result struct {
 	TruthPerSeed bool `json:"truth_per_seed"`
 
 	Models []ModelResult `json:"models"`
+
+	// Created is when the run that computed the numbers started (RFC 3339,
+	// UTC: Timing.Created), for the provenance line of the tables. It is not
+	// written to result.json, which must not vary between runs; a reader of
+	// a result folder sets it from timing.json. "" when unknown.
+	Created string `json:"-"`
 }
 
 // Risk and split bases.

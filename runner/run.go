@@ -31,6 +31,18 @@ type Options struct {
 	Fresh bool
 	// Log receives warnings (a corrupted cache entry, say). Default: discarded.
 	Log io.Writer
+	// Progress, if set, is called after each seed with the cells done so
+	// far. Calls come from the worker goroutines, possibly at once and out
+	// of order (keep the largest count), so it must be safe for concurrent
+	// use and quick. Default nil: no calls.
+	Progress func(Progress)
+}
+
+// Progress counts the cells of a run so far.
+type Progress struct {
+	Computed int // cells fitted
+	Cached   int // cells taken from the cache
+	Total    int // cells of the run: models × grid values × seeds
 }
 
 // InterpTol is the interpolation tolerance: a fit interpolates when its
@@ -81,6 +93,7 @@ func Run(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
 		Cached:   int(r.cached.Load()),
 		Seconds:  time.Since(start).Seconds(),
 	}
+	res.Created = tm.Created
 	return &Output{Result: res, Sums: sums, Timing: tm}, nil
 }
 
@@ -184,6 +197,13 @@ func (r *run) fitAll(ctx context.Context) error {
 				return err
 			}
 			e, changed, err := r.fitSeed(seed)
+			if err == nil && r.opt.Progress != nil {
+				r.opt.Progress(Progress{
+					Computed: int(r.computed.Load()),
+					Cached:   int(r.cached.Load()),
+					Total:    len(r.models) * len(r.values) * r.s.Seeds.Count,
+				})
+			}
 			if err != nil || !changed {
 				return err
 			}

@@ -10,7 +10,9 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+	"sync"
 	"testing"
+	"time"
 
 	"riskgrid/models"
 	"riskgrid/spec"
@@ -192,6 +194,21 @@ func TestRunDeterministicAcrossWorkers(t *testing.T) {
 	}
 }
 
+// TestRunCreated checks that the Result carries the run's start time for
+// the tables, equal to Timing.Created, and keeps it out of result.json.
+func TestRunCreated(t *testing.T) {
+	res, tm := mustRun(t, mustParse(t, smallSpec(2, "5")), Options{})
+	if res.Created == "" || res.Created != tm.Created {
+		t.Fatalf("Result.Created = %q, want Timing.Created %q", res.Created, tm.Created)
+	}
+	if _, err := time.Parse(time.RFC3339, res.Created); err != nil {
+		t.Errorf("Created %q is not RFC 3339: %v", res.Created, err)
+	}
+	if b := resultJSON(t, res); bytes.Contains(b, []byte(res.Created)) {
+		t.Errorf("result.json holds the run's date %s", res.Created)
+	}
+}
+
 func TestRunCache(t *testing.T) {
 	dir := t.TempDir()
 	opt := Options{Workers: 2, CacheDir: dir}
@@ -223,6 +240,41 @@ func TestRunCache(t *testing.T) {
 	// ... and keeps the cells of the grown spec that it did not refit.
 	if _, tm = mustRun(t, mustParse(t, smallSpec(8, "5, 20, 30, 40")), opt); tm.Computed != 0 {
 		t.Errorf("after a fresh run of a subset, the grown spec recomputed %d cells, want 0", tm.Computed)
+	}
+}
+
+// TestRunProgress checks the Progress callback: one call per seed, counts
+// that never exceed the total, and a last state that accounts for every cell
+// (fitted on the first run, from the cache on the second).
+func TestRunProgress(t *testing.T) {
+	dir := t.TempDir()
+	s := mustParse(t, smallSpec(5, "5, 20, 40"))
+	const total = 2 * 3 * 5
+	for _, want := range []Progress{{Computed: total, Total: total}, {Cached: total, Total: total}} {
+		var mu sync.Mutex
+		var calls []Progress
+		opt := Options{Workers: 3, CacheDir: dir, Progress: func(p Progress) {
+			mu.Lock()
+			calls = append(calls, p)
+			mu.Unlock()
+		}}
+		_, tm := mustRun(t, s, opt)
+		if len(calls) != 5 {
+			t.Errorf("Progress called %d times, want once per seed (5)", len(calls))
+		}
+		var last Progress
+		for _, p := range calls {
+			if p.Total != total || p.Computed+p.Cached > total {
+				t.Errorf("Progress(%+v): total %d, want at most %d cells done", p, total, total)
+			}
+			// Concurrent calls may arrive out of order: keep the furthest.
+			if p.Computed+p.Cached > last.Computed+last.Cached {
+				last = p
+			}
+		}
+		if last != want || tm.Computed != want.Computed || tm.Cached != want.Cached {
+			t.Errorf("last Progress %+v, Timing %d computed %d cached; want %+v", last, tm.Computed, tm.Cached, want)
+		}
 	}
 }
 
