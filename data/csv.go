@@ -238,11 +238,12 @@ func newCSV(s *spec.Spec, key string) (*csvSource, error) {
 		n:         dd.NTrain,
 		bootstrap: bootstrap,
 		prob: &Problem{
-			Dim:      p,
-			Names:    append([]string(nil), t.names...),
-			NoiseVar: math.NaN(),
-			TestX:    testX,
-			TestY:    testY,
+			Dim:       p,
+			Names:     append([]string(nil), t.names...),
+			NoiseVar:  math.NaN(),
+			TestX:     testX,
+			TestY:     testY,
+			TestBasis: TestHeldOut,
 		},
 	}
 	return src, nil

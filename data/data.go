@@ -22,7 +22,24 @@ type Problem struct {
 	TestY []float64
 	// TruthKnown is true when TestY (or Beta) is the noiseless truth.
 	TruthKnown bool
+	// TestW holds a weight per test input, summing to 1 (quadrature
+	// weights); nil means 1/m each.
+	TestW []float64
+	// TestBasis says what the test inputs stand for, and so how a risk
+	// measured on them is labelled: TestQuadrature (nodes of a quadrature
+	// rule of the input law: exact up to the rule's error), TestMonteCarlo
+	// (m independent draws of the input law: the risk carries a Monte
+	// Carlo error, reported) or TestHeldOut (rows of a data file, with
+	// observed responses).
+	TestBasis string
 }
+
+// Test bases (Problem.TestBasis).
+const (
+	TestQuadrature = "quadrature"
+	TestMonteCarlo = "monte-carlo"
+	TestHeldOut    = "held-out"
+)
 
 // Sample is one seed's training sample.
 type Sample struct {

@@ -126,6 +126,7 @@ func newLinearGaussian(s *spec.Spec, key string) (*linearGaussian, error) {
 		NoiseVar:   dd.Noise.SD * dd.Noise.SD,
 		TestX:      testX,
 		TruthKnown: true,
+		TestBasis:  TestMonteCarlo,
 	}
 	if !perSeed {
 		p.Beta = append([]float64(nil), g.beta...)

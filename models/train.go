@@ -1,6 +1,10 @@
 package models
 
-import "gonum.org/v1/gonum/mat"
+import (
+	"gonum.org/v1/gonum/mat"
+
+	"riskgrid/data"
+)
 
 // Train is one training sample, X (n×d) and y (length n), as every model of
 // a seed sees it. It caches what the models fitted to it can share, so
@@ -16,6 +20,14 @@ import "gonum.org/v1/gonum/mat"
 type Train struct {
 	X *mat.Dense
 	Y []float64
+	// Test holds the inputs at which a fit that is not linear in the input
+	// columns reports its predictions (Fit.Pred): m × d, the same columns
+	// as X. Nil when the runner needs no predictions.
+	Test *mat.Dense
+
+	// seed identifies the model's own randomness (see Rand).
+	key             string
+	seed, modelSeed uint64
 
 	designs map[designKey]*design
 }
@@ -30,6 +42,22 @@ type designKey struct {
 func NewTrain(x *mat.Dense, y []float64) *Train {
 	checkShape(x, y)
 	return &Train{X: x, Y: y}
+}
+
+// SetSeeds sets what a randomized family's streams derive from: the data
+// key, the data seed and the model seed (see Rand).
+func (t *Train) SetSeeds(key string, seed, modelSeed uint64) {
+	t.key, t.seed, t.modelSeed = key, seed, modelSeed
+}
+
+// Rand returns the stream of a randomized family's own randomness (random
+// weights, initialisation, minibatch order): derived from the data key, the
+// data seed, the model seed and tag (the family's name and what the stream
+// is for), so two families or two uses never share draws, and a fit does
+// not depend on the worker that ran it.
+func (t *Train) Rand(tag string) *data.Stream {
+	// The data key is fixed-length hex, so key + tag is unambiguous.
+	return data.NewStream(t.key+" model "+tag, t.seed, t.modelSeed)
 }
 
 // design returns the first n rows and p columns with the intercept

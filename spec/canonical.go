@@ -54,10 +54,16 @@ func (s *Spec) Canonical() string {
 		b.WriteString("\n[[model]]\n")
 		kv("family", tomlString(m.Family))
 		kv("label", tomlString(m.Label))
-		if m.Family == FamilyRidge && s.Grid.Param != ParamLambda {
-			kv("lambda", fmtFloat(m.Lambda))
+		nums, choices := m.written(s.Grid.Param)
+		for _, n := range nums {
+			kv(n.Key, fmtFloat(m.Param(n.Key)))
 		}
-		kv("intercept", strconv.FormatBool(m.Intercept))
+		for _, c := range choices {
+			kv(c.Key, tomlString(m.Options[c.Key]))
+		}
+		if Families[m.Family].Intercept {
+			kv("intercept", strconv.FormatBool(m.Intercept))
+		}
 	}
 
 	b.WriteString("\n[grid]\n")
@@ -68,6 +74,7 @@ func (s *Spec) Canonical() string {
 	kv("count", strconv.Itoa(s.Seeds.Count))
 	kv("start", strconv.FormatUint(s.Seeds.Start, 10))
 	kv("truth", strconv.FormatUint(s.Seeds.Truth, 10))
+	kv("models", strconv.Itoa(s.Seeds.Models))
 
 	b.WriteString("\n[tables]\n")
 	kv("se_style", tomlString(s.Tables.SEStyle))

@@ -7,9 +7,6 @@ import (
 	"strconv"
 )
 
-// integerParam reports whether a grid param takes whole values.
-func integerParam(param string) bool { return param == ParamFeatures || param == ParamNTrain }
-
 // Expand returns the grid values a from/to/points grid stands for, sorted
 // and without repeats, with include merged in:
 //
@@ -143,13 +140,6 @@ func (d *decoder) grid(t table, s *Spec) error {
 }
 
 // gridValueCheck returns the per-value test of a grid param and its wording.
-func gridValueCheck(param string) (func(float64) bool, string) {
-	if param == ParamLambda {
-		return nonNegative, "penalties ≥ 0"
-	}
-	return func(x float64) bool { return x >= 1 && x <= 1<<53 && x == math.Trunc(x) }, "whole numbers ≥ 1"
-}
-
 // gridKey names the key a grid value v came from.
 func gridKey(t table, v float64) string {
 	switch {

@@ -81,6 +81,9 @@ func (s *Spec) hashStream() *stream {
 	w.int("seeds.count", s.Seeds.Count)
 	w.u64("seeds.start", s.Seeds.Start)
 	w.u64("seeds.truth", s.Seeds.Truth)
+	if s.Seeds.Models != 1 {
+		w.int("seeds.models", s.Seeds.Models)
+	}
 	return w
 }
 
@@ -158,8 +161,12 @@ func modelStream(m Model, param string) *stream {
 
 func modelLines(w *stream, m Model, param string) {
 	w.str("model.family", m.Family)
-	if m.Family == FamilyRidge && param != ParamLambda {
-		w.f64("model.lambda", m.Lambda)
+	nums, choices := m.written(param)
+	for _, n := range nums {
+		w.f64("model."+n.Key, m.Param(n.Key))
+	}
+	for _, c := range choices {
+		w.str("model."+c.Key, m.Options[c.Key])
 	}
 	w.bool("model.intercept", m.Intercept)
 }

@@ -19,16 +19,13 @@ var (
 	noises     = []string{NoiseGaussian, NoiseStudentT}
 	truths     = []string{TruthFixed, TruthPerSeed}
 	samplings  = []string{SamplingSubsample, SamplingBootstrap}
-	families   = []string{FamilyLeastSquares, FamilyRidge}
-	params     = []string{ParamFeatures, ParamLambda, ParamNTrain}
 	spacings   = []string{SpacingLinear, SpacingLog}
 	topKeys    = []string{"name", "about", "data", "model", "grid", "seeds", "tables"}
 	commonData = []string{"source", "n_train", "n_test"}
 	genData    = []string{"dim", "spectrum", "signal", "noise", "truth"}
 	csvData    = []string{"file", "target", "features", "test_fraction", "sampling"}
-	modelKeys  = []string{"family", "label", "lambda", "intercept"}
 	gridKeys   = []string{"param", "values", "from", "to", "points", "spacing", "include"}
-	seedKeys   = []string{"count", "start", "truth"}
+	seedKeys   = []string{"count", "start", "truth", "models"}
 	tablesKeys = []string{"se_style"}
 
 	spectrumKeys = map[string][]string{
@@ -146,7 +143,7 @@ func (d *decoder) spec(root table) (*Spec, error) {
 	if err := d.known(gt, gridKeys); err != nil {
 		return nil, err
 	}
-	if s.Grid.Param, err = d.choice(gt, "param", params, ""); err != nil {
+	if s.Grid.Param, err = d.choice(gt, "param", Params, ""); err != nil {
 		return nil, err
 	}
 
@@ -492,19 +489,31 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 	}
 	s.Models = make([]Model, len(ts))
 	f.lambda = make([]bool, len(ts))
+	param := s.Grid.Param
 	for i, t := range ts {
 		M := &s.Models[i]
-		if err := d.known(t, modelKeys); err != nil {
+		// A key no family takes is a typo: list the keys of this table's
+		// family (if it names one) as the known ones. A key of another
+		// family is named as such.
+		known := []string{"family", "label"}
+		if f, isStr := t.m["family"].(string); isStr && Families[f].Knobs != nil {
+			known = Families[f].keys()
+		}
+		for _, k := range d.keysIn(t) {
+			if !anyFamilyTakes(k) {
+				return d.errf(t.key(k), "unknown key (known: %s)", strings.Join(known, ", "))
+			}
+		}
+		if M.Family, err = d.choice(t, "family", FamilyNames, ""); err != nil {
 			return err
 		}
-		if M.Family, err = d.choice(t, "family", families, ""); err != nil {
+		fam := Families[M.Family]
+		if err := d.belong(t, fam.keys(), fmt.Sprintf("family %q", M.Family)); err != nil {
 			return err
 		}
-		if err := d.belong(t, FamilyKeys[M.Family], fmt.Sprintf("family %q", M.Family)); err != nil {
-			return err
-		}
-		if s.Grid.Param == ParamLambda && M.Family != FamilyRidge {
-			return d.errf(t.key("family"), "%q has no penalty, but the grid param is lambda (accepted: only %q models on a lambda grid)", M.Family, FamilyRidge)
+		if !HasKnob(M.Family, param) {
+			return d.errf(t.key("family"), "%q has no knob %s, the grid param (accepted: a family whose knobs include %s; %q takes %s)",
+				M.Family, param, param, M.Family, strings.Join(fam.Knobs, ", "))
 		}
 		label, ok, err := d.str(t, "label")
 		if err != nil {
@@ -517,31 +526,72 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 		if M.Intercept, _, err = d.boolean(t, "intercept"); err != nil {
 			return err
 		}
-		if M.Family == FamilyRidge {
-			lam, ok, err := d.float(t, "lambda", nonNegative, "a number ≥ 0")
+		for _, n := range fam.Nums {
+			x, ok, err := d.float(t, n.Key, n.OK, n.Accepted)
 			if err != nil {
 				return err
 			}
-			f.lambda[i] = ok
-			switch {
-			case ok && s.Grid.Param == ParamLambda:
-				return d.errf(t.key("lambda"), "the grid param is lambda, which sets the penalty (accepted: leave lambda out of [[model]])")
-			case !ok && s.Grid.Param != ParamLambda:
-				return d.missing(t.key("lambda"), "a number ≥ 0, the ridge penalty")
+			if ok && n.Integer && x != math.Trunc(x) {
+				return d.errf(t.key(n.Key), "got %s (accepted: %s)", fmtFloat(x), n.Accepted)
 			}
-			M.Lambda = lam
+			if n.Key == "lambda" {
+				f.lambda[i] = ok
+			}
+			switch {
+			case ok && n.Key == param:
+				return d.errf(t.key(n.Key), "the grid param is %s, which sets it (accepted: leave %s out of [[model]])", param, n.Key)
+			case n.Key == param:
+				continue
+			case !ok && !n.HasDefault:
+				return d.missing(t.key(n.Key), n.Accepted)
+			case !ok:
+				x = n.Default
+			}
+			if n.Key == "lambda" {
+				M.Lambda = x
+				continue
+			}
+			if M.Params == nil {
+				M.Params = map[string]float64{}
+			}
+			M.Params[n.Key] = x
+		}
+		for _, c := range fam.Choices {
+			v, err := d.choice(t, c.Key, c.Values, c.Default)
+			if err != nil {
+				return err
+			}
+			if M.Options == nil {
+				M.Options = map[string]string{}
+			}
+			M.Options[c.Key] = v
+		}
+		if M.Family == FamilyPolynomial && M.Params["high"] <= M.Params["low"] {
+			return d.errf(t.key("high"), "got %s ≤ low = %s (accepted: high > low)", fmtFloat(M.Params["high"]), fmtFloat(M.Params["low"]))
 		}
 	}
 	return nil
 }
 
 // DefaultLabel is the label a model gets when none is written: the family,
-// then "λ=<lambda>" for ridge (unless lambda is the grid param), then
-// "(intercept)" when an intercept is fitted.
+// its choices ("relu"), then "key=value" for each numeric parameter that is
+// not the grid param and differs from its default ("λ=0.1" for a penalty),
+// then "(intercept)" when an intercept is fitted.
 func DefaultLabel(m Model, param string) string {
 	l := m.Family
-	if m.Family == FamilyRidge && param != ParamLambda {
-		l += " λ=" + fmtFloat(m.Lambda)
+	nums, choices := m.written(param)
+	for _, c := range choices {
+		l += " " + m.Options[c.Key]
+	}
+	for _, n := range nums {
+		if n.HasDefault && m.Param(n.Key) == n.Default {
+			continue
+		}
+		sym := n.Key
+		if sym == "lambda" {
+			sym = "λ"
+		}
+		l += " " + sym + "=" + fmtFloat(m.Param(n.Key))
 	}
 	if m.Intercept {
 		l += " (intercept)"
@@ -598,6 +648,14 @@ func (d *decoder) seeds(root table, s *Spec) error {
 		return err
 	}
 	s.Seeds.Truth = uint64(truth)
+	models, ok, err := d.integer(t, "models", 1, maxInt, "an integer ≥ 1, model seeds per data seed")
+	if err != nil {
+		return err
+	}
+	s.Seeds.Models = 1
+	if ok {
+		s.Seeds.Models = int(models)
+	}
 	return nil
 }
 

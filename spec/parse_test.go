@@ -36,7 +36,7 @@ func TestDefaults(t *testing.T) {
 		},
 		Models: []Model{{Family: FamilyLeastSquares, Label: "least-squares"}},
 		Grid:   Grid{Param: ParamFeatures, Values: []float64{10, 20}},
-		Seeds:  Seeds{Count: 3, Start: 1, Truth: 0},
+		Seeds:  Seeds{Count: 3, Start: 1, Truth: 0, Models: 1},
 		Tables: Tables{SEStyle: SEParentheses},
 	}
 	if !reflect.DeepEqual(s, want) {

@@ -156,12 +156,11 @@ type Model struct {
 	Lambda float64 `toml:"lambda"`
 	// Intercept adds an unpenalised intercept. Default false.
 	Intercept bool `toml:"intercept"`
-}
-
-// FamilyKeys lists, per family, the keys a [[model]] table may hold.
-var FamilyKeys = map[string][]string{
-	FamilyLeastSquares: {"family", "label", "intercept"},
-	FamilyRidge:        {"family", "label", "lambda", "intercept"},
+	// Params holds the family's other numeric parameters (see Families),
+	// resolved: defaults filled in, the grid param left out.
+	Params map[string]float64 `toml:"-"`
+	// Options holds the family's string choices (see Families), resolved.
+	Options map[string]string `toml:"-"`
 }
 
 // Grid params (knobs).
@@ -173,7 +172,8 @@ const (
 
 // Grid is the capacity grid: one knob and its values.
 type Grid struct {
-	// Param is the knob: ParamFeatures, ParamLambda or ParamNTrain.
+	// Param is the knob: one of Params; every model's family must accept
+	// it (Schema.Knobs).
 	Param string `toml:"param"`
 	// Values lists the grid explicitly. Exclusive with From/To/Points.
 	// After Load it holds the resolved, sorted, de-duplicated values, and
@@ -201,6 +201,12 @@ type Seeds struct {
 	// test split. Default 0. It is kept apart from Start and Count so
 	// that adding seeds does not change the distribution.
 	Truth uint64 `toml:"truth"`
+	// Models is the number M ≥ 1 of model seeds per data seed, for
+	// families with randomness of their own (Schema.Randomized): each data
+	// seed's sample is fitted M times, and the variance is split into the
+	// parts due to the sample and to the model's randomness. Default 1.
+	// Families without randomness are fitted once per data seed.
+	Models int `toml:"models"`
 }
 
 // Standard-error styles: how a table prints a mean with its standard error.
