@@ -15,12 +15,13 @@ func check(r *runner.Result) error {
 	}
 	switch r.RiskBasis {
 	case runner.RiskExact:
-	case runner.RiskTestSet:
+	case runner.RiskTestSet, runner.RiskQuadrature, runner.RiskMonteCarlo:
 		if r.TestPoints <= 0 {
 			return fmt.Errorf("%w: risk_basis %q needs test_points > 0, have %d", ErrResult, r.RiskBasis, r.TestPoints)
 		}
 	default:
-		return fmt.Errorf("%w: risk_basis %q (known: %q, %q)", ErrResult, r.RiskBasis, runner.RiskExact, runner.RiskTestSet)
+		return fmt.Errorf("%w: risk_basis %q (known: %q, %q, %q, %q)", ErrResult, r.RiskBasis,
+			runner.RiskExact, runner.RiskQuadrature, runner.RiskMonteCarlo, runner.RiskTestSet)
 	}
 	switch r.SplitBasis {
 	case runner.SplitExact, runner.SplitLumped:
@@ -37,8 +38,13 @@ func check(r *runner.Result) error {
 
 // riskText says in words how the risk column was measured.
 func riskText(r *runner.Result) string {
-	if r.RiskBasis == runner.RiskTestSet {
+	switch r.RiskBasis {
+	case runner.RiskTestSet:
 		return fmt.Sprintf("test risk (held-out test set, %d points)", r.TestPoints)
+	case runner.RiskQuadrature:
+		return fmt.Sprintf("true risk (quadrature rule, %d nodes)", r.TestPoints)
+	case runner.RiskMonteCarlo:
+		return fmt.Sprintf("true risk (Monte Carlo over %d test inputs; its sampling SE is risk_mc_se in result.json)", r.TestPoints)
 	}
 	return "true risk (exact)"
 }

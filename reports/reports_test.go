@@ -291,7 +291,7 @@ func TestBadResult(t *testing.T) {
 		want   string
 	}{
 		{"unknown risk basis", func(r *runner.Result) { r.RiskBasis = "oracle" },
-			`risk_basis "oracle" (known: "exact", "test-set")`},
+			`risk_basis "oracle" (known: "exact", "quadrature", "monte-carlo", "test-set")`},
 		{"unknown split basis", func(r *runner.Result) { r.SplitBasis = "" },
 			`split_basis "" (known: "exact", "test-inputs", "lumped")`},
 		{"test set without points", func(r *runner.Result) { r.RiskBasis = runner.RiskTestSet },

@@ -2,6 +2,8 @@ package runner
 
 import (
 	"fmt"
+
+	"riskgrid/data"
 	"runtime"
 	"sort"
 	"sync"
@@ -9,26 +11,30 @@ import (
 	"riskgrid/spec"
 )
 
-// point gathers one grid point of one model across seeds.
+// point gathers one grid point of one model across data seeds. With M model
+// seeds per data seed, the per-seed scalars are means over the seed's M
+// fits and the split runs on the per-seed mean deviations ê_s (see
+// nestedSplit).
 type point struct {
 	seeds                 []uint64
 	risk, train, norm, df []float64
-	interp                int
+	interp, fits          int // fits that interpolate, of fits reduced
 	errs                  []CellError
 	sp                    *split
-	sumSq                 float64   // Σ_s ⟨e_s, e_s⟩
-	sumSqIn               []float64 // Σ_s e_sj², test-input bases
+	modelVar              []float64 // per seed: Σ_m ⟨e_sm − ê_s, ·⟩/(M−1), M > 1
+	sumSq                 float64   // Σ_s mean_m ⟨e_sm, e_sm⟩
+	sumSqIn               []float64 // Σ_s mean_m e_smj², test-input bases
 }
 
-// addSq adds ⟨e, e⟩ and, per input, e_j².
-func (p *point) addSq(e, w []float64, perInput bool) {
+// addSq adds ⟨e, e⟩·share and, per input, e_j²·share.
+func (p *point) addSq(e, w []float64, perInput bool, share float64) {
 	if perInput && p.sumSqIn == nil {
 		p.sumSqIn = make([]float64, len(e))
 	}
 	for j, v := range e {
-		p.sumSq += w[j] * v * v
+		p.sumSq += share * w[j] * v * v
 		if perInput {
-			p.sumSqIn[j] += v * v
+			p.sumSqIn[j] += share * v * v
 		}
 	}
 }
@@ -46,37 +52,79 @@ func (r *run) reduce() (*Result, *Sums, error) {
 			pts[i][j] = &point{sp: newSplit(w)}
 		}
 	}
-	dev := make([]float64, len(w))
+	dev := make([]float64, len(w))  // e_sm of one fit
+	mean := make([]float64, len(w)) // ê_s over the seed's model seeds
+	cells := make([]*cell, 0, 1)
 	for pass := 1; pass <= 2; pass++ {
 		err := r.inOrder(func(seed uint64, e *entry) error {
+			target := r.target(e.Beta)
 			for mi, m := range r.models {
 				for vi, v := range r.values {
-					c, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]
-					if !ok {
-						return fmt.Errorf("seed %d: cell %s %g missing after fitting", seed, m.spec.Label, v)
-					}
 					p := pts[mi][vi]
-					if c.Err != "" {
-						if pass == 1 {
-							p.errs = append(p.errs, CellError{Seed: seed, Msg: c.Err})
+					// A data seed counts only if all its model seeds'
+					// fits succeeded: the nested split needs balanced
+					// groups.
+					cells = cells[:0]
+					failed := false
+					for ms := range m.seeds {
+						c, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v, ms)]
+						if !ok {
+							return fmt.Errorf("seed %d: cell %s %g #%d missing after fitting", seed, m.spec.Label, v, ms)
 						}
+						if c.Err != "" {
+							failed = true
+							if pass == 1 {
+								p.errs = append(p.errs, CellError{Seed: seed, ModelSeed: ms, Msg: c.Err})
+							}
+						}
+						cells = append(cells, c)
+					}
+					if failed {
 						continue
 					}
-					r.deviation(c, e.Beta, dev)
-					if pass == 1 {
-						p.sp.add(dev)
-						p.addSq(dev, w, !r.exact)
-						p.seeds = append(p.seeds, seed)
-						p.risk = append(p.risk, c.Risk)
-						p.train = append(p.train, c.TrainRisk)
-						p.norm = append(p.norm, c.Norm)
-						p.df = append(p.df, c.DF)
+					M := float64(len(cells))
+					clear(mean)
+					for _, c := range cells {
+						r.deviation(c, e.Beta, target, dev)
+						for j, x := range dev {
+							mean[j] += x / M
+						}
+						if pass == 1 {
+							p.addSq(dev, w, !r.exact, 1/M)
+						}
+					}
+					if pass == 2 {
+						p.sp.revisit(mean)
+						continue
+					}
+					p.sp.add(mean)
+					if len(cells) > 1 {
+						var within float64
+						for _, c := range cells {
+							r.deviation(c, e.Beta, target, dev)
+							for j, x := range dev {
+								u := x - mean[j]
+								within += w[j] * u * u
+							}
+						}
+						p.modelVar = append(p.modelVar, within/(M-1))
+					}
+					var risk, train, norm, df float64
+					for _, c := range cells {
+						risk += c.Risk / M
+						train += c.TrainRisk / M
+						norm += c.Norm / M
+						df += c.DF / M
 						if c.Interp {
 							p.interp++
 						}
-					} else {
-						p.sp.revisit(dev)
 					}
+					p.fits += len(cells)
+					p.seeds = append(p.seeds, seed)
+					p.risk = append(p.risk, risk)
+					p.train = append(p.train, train)
+					p.norm = append(p.norm, norm)
+					p.df = append(p.df, df)
 				}
 			}
 			return nil
@@ -99,13 +147,17 @@ func (r *run) reduce() (*Result, *Sums, error) {
 		NTrain:       r.s.Data.NTrain,
 		TruthPerSeed: r.s.Data.Truth == spec.TruthPerSeed,
 	}
+	res.ModelSeeds = max(r.s.Seeds.Models, 1)
 	switch {
 	case r.exact:
 		res.RiskBasis, res.SplitBasis = RiskExact, SplitExact
 	case r.prob.TruthKnown:
-		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitTestInputs, len(r.prob.TestY)
+		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskMonteCarlo, SplitTestInputs, len(r.weight)
+		if r.prob.TestBasis == data.TestQuadrature {
+			res.RiskBasis = RiskQuadrature
+		}
 	default:
-		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitLumped, len(r.prob.TestY)
+		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitLumped, len(r.weight)
 	}
 	sums := &Sums{Schema: SumsSchema, Hash: res.Hash, DataKey: r.key, SplitBasis: res.SplitBasis,
 		Param: res.Param, Weights: w}
@@ -114,10 +166,11 @@ func (r *run) reduce() (*Result, *Sums, error) {
 		ms := ModelSums{Label: m.spec.Label, Key: m.key}
 		for vi, v := range r.values {
 			p := pts[mi][vi]
-			mr.Points = append(mr.Points, r.finish(v, p, res.SplitBasis))
+			mr.Points = append(mr.Points, r.finish(v, p, res, m.seeds))
 			ms.Points = append(ms.Points, PointSums{
 				Value: v, Seeds: p.seeds, Risk: p.risk, TrainRisk: p.train, Norm: p.norm, DF: p.df,
 				Interp: p.interp, SumDev: p.sp.sum, SumSqDev: p.sumSq, SumSqDevInput: p.sumSqIn,
+				ModelVar: p.modelVar,
 			})
 		}
 		res.Models = append(res.Models, mr)
@@ -157,7 +210,8 @@ func (r *run) inOrder(fn func(seed uint64, e *entry) error) error {
 }
 
 // weights is the inner product of the split: diag Σ (and 1 for the
-// intercept, as E x = 0) in coefficient space, or 1/m on the test inputs.
+// intercept, as E x = 0) in coefficient space, or the test inputs' weights
+// (1/m, or a quadrature rule's).
 func (r *run) weights() []float64 {
 	if r.exact {
 		w := make([]float64, len(r.prob.Sigma)+1)
@@ -165,17 +219,13 @@ func (r *run) weights() []float64 {
 		w[len(w)-1] = 1
 		return w
 	}
-	m := len(r.prob.TestY)
-	w := make([]float64, m)
-	for j := range w {
-		w[j] = 1 / float64(m)
-	}
-	return w
+	return r.weight
 }
 
 // deviation writes e = f − f* of one cell into dst: (b padded − β, b0) in
-// coefficient space, or predictions minus targets on the test inputs.
-func (r *run) deviation(c *cell, seedBeta []float64, dst []float64) {
+// coefficient space, or predictions minus target (f* or the observed
+// responses) on the test inputs.
+func (r *run) deviation(c *cell, seedBeta, target []float64, dst []float64) {
 	if r.exact {
 		beta := r.prob.Beta
 		if beta == nil {
@@ -192,7 +242,7 @@ func (r *run) deviation(c *cell, seedBeta []float64, dst []float64) {
 		return
 	}
 	for j, p := range c.Pred {
-		dst[j] = p - r.prob.TestY[j]
+		dst[j] = p - target[j]
 	}
 }
 
@@ -210,7 +260,11 @@ func est(xs []float64) Estimate {
 	return Estimate{Mean: Num(m), SE: Num(se)}
 }
 
-func (r *run) finish(v float64, p *point, basis string) Point {
+// finish reduces one grid point. With M model seeds per data seed the
+// variance is split by the law of total variance (see nestedSplit); a
+// family without randomness of its own (M = 1) has a model part of
+// exactly zero.
+func (r *run) finish(v float64, p *point, res *Result, modelSeeds int) Point {
 	pt := Point{
 		Value:     v,
 		Seeds:     len(p.risk),
@@ -219,17 +273,23 @@ func (r *run) finish(v float64, p *point, basis string) Point {
 		Gap:       est(gaps(p.risk, p.train)),
 		Norm:      est(p.norm),
 		DF:        est(p.df),
+		RiskMCSE:  NaN,
 		Errors:    p.errs,
 	}
-	b2, b2se, vr, vrse := p.sp.result()
-	pt.Bias2 = Estimate{Num(b2), Num(b2se)}
-	pt.Variance = Estimate{Num(vr), Num(vrse)}
-	if basis == SplitLumped {
+	ns := nestedSplit(p.sp, p.modelVar, modelSeeds)
+	pt.Bias2 = Estimate{Num(ns.bias2), Num(ns.bias2SE)}
+	pt.Variance = Estimate{Num(ns.variance), Num(ns.varianceSE)}
+	pt.VarianceData = Estimate{Num(ns.data), Num(ns.dataSE)}
+	pt.VarianceModel = Estimate{Num(ns.model), Num(ns.modelSE)}
+	if res.SplitBasis == SplitLumped {
 		pt.Noise = Estimate{NaN, NaN}
-		pt.Sum = Num(b2 + vr)
+		pt.Sum = Num(ns.bias2 + ns.variance)
 	} else {
 		pt.Noise = Estimate{Num(r.prob.NoiseVar), 0}
-		pt.Sum = Num(b2 + vr + r.prob.NoiseVar)
+		pt.Sum = Num(ns.bias2 + ns.variance + r.prob.NoiseVar)
+	}
+	if res.RiskBasis == RiskMonteCarlo && len(p.risk) > 0 {
+		pt.RiskMCSE = Num(mcSE(p.sumSqIn, len(p.risk)))
 	}
 	sorted := append([]float64(nil), p.risk...)
 	sort.Float64s(sorted)
@@ -237,10 +297,27 @@ func (r *run) finish(v float64, p *point, basis string) Point {
 	pt.RiskMedian = Num(quantile(sorted, 0.5))
 	pt.RiskQ3 = Num(quantile(sorted, 0.75))
 	pt.HeavyTail = heavyTail(sorted)
-	if len(p.risk) > 0 {
-		pt.Interpolating = Num(float64(p.interp) / float64(len(p.risk)))
+	if p.fits > 0 {
+		pt.Interpolating = Num(float64(p.interp) / float64(p.fits))
 	} else {
 		pt.Interpolating = NaN
 	}
 	return pt
+}
+
+// mcSE is the Monte Carlo standard error of a risk measured on m
+// independent test inputs: with D_j = (1/S) Σ_s mean_m e_smj² the mean
+// squared error at input j (sumSqIn_j/S), the risk is the mean of the D_j
+// plus the noise, and its error from the finite test sample is
+//
+//	se = sd_j(D_j)/√m,
+//
+// the standard error of a sample mean (the seeds' fits are held fixed).
+func mcSE(sumSqIn []float64, seeds int) float64 {
+	d := make([]float64, len(sumSqIn))
+	for j, x := range sumSqIn {
+		d[j] = x / float64(seeds)
+	}
+	_, se := meanSE(d)
+	return se
 }

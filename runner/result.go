@@ -38,6 +38,9 @@ type Result struct {
 	// TruthPerSeed is true when β is redrawn for every seed; bias² is then
 	// measured against each seed's own truth.
 	TruthPerSeed bool `json:"truth_per_seed"`
+	// ModelSeeds is the number of model seeds per data seed ([seeds]
+	// models) of the families with randomness of their own.
+	ModelSeeds int `json:"model_seeds"`
 
 	Models []ModelResult `json:"models"`
 
@@ -51,6 +54,8 @@ type Result struct {
 // Risk and split bases.
 const (
 	RiskExact       = "exact"       // R(b) = (b−β)ᵀΣ(b−β) + b0² + σ², no sampling error over x
+	RiskQuadrature  = "quadrature"  // Σ_j w_j (f − f*)²(x_j) + σ² over a quadrature rule of the input law
+	RiskMonteCarlo  = "monte-carlo" // the same over m independent test inputs, w_j = 1/m: Monte Carlo SE reported
 	RiskTestSet     = "test-set"    // mean squared error on the held-out test set
 	SplitExact      = "exact"       // over the input distribution, from coefficients
 	SplitTestInputs = "test-inputs" // over the fixed test inputs against f*
@@ -69,15 +74,25 @@ type Point struct {
 	Value float64 `json:"value"` // the knob's value
 	Seeds int     `json:"seeds"` // seeds that produced a fit
 
-	Risk      Estimate `json:"risk"`       // true (exact) or test risk
+	Risk Estimate `json:"risk"` // true (exact) or test risk
+	// RiskMCSE is the Monte Carlo standard error of Risk from the finite
+	// test sample (risk basis monte-carlo), apart from Risk.SE, which is
+	// over seeds; null on other bases.
+	RiskMCSE  Num      `json:"risk_mc_se"`
 	TrainRisk Estimate `json:"train_risk"` // (1/n)‖y − ŷ‖² on the training sample
 	Gap       Estimate `json:"gap"`        // Risk − TrainRisk, paired per seed
 	Bias2     Estimate `json:"bias2"`      // unbiased: ‖ē‖² − V̂/S (may be < 0)
-	Variance  Estimate `json:"variance"`   // 1/(S−1) over seeds
-	Noise     Estimate `json:"noise"`      // σ², exact (SE 0); NaN when lumped
-	Sum       Num      `json:"sum"`        // Bias2 + Variance + Noise
-	Norm      Estimate `json:"norm"`       // ‖b‖₂
-	DF        Estimate `json:"df"`         // effective degrees of freedom tr(H)
+	Variance  Estimate `json:"variance"`   // total: VarianceData + VarianceModel
+	// VarianceData is Var_data(E_model f), the part due to the training
+	// sample; VarianceModel is E_data[Var_model f], the part due to the
+	// model's own randomness (exactly 0 for a family without any). Both
+	// unbiased for the nested design (one-way random effects).
+	VarianceData  Estimate `json:"variance_data"`
+	VarianceModel Estimate `json:"variance_model"`
+	Noise         Estimate `json:"noise"` // σ², exact (SE 0); NaN when lumped
+	Sum           Num      `json:"sum"`   // Bias2 + Variance + Noise
+	Norm          Estimate `json:"norm"`  // ‖b‖₂
+	DF            Estimate `json:"df"`    // effective degrees of freedom tr(H)
 
 	// Quantiles of Risk over seeds (the mean has no finite expectation at
 	// the interpolation threshold).
@@ -101,8 +116,9 @@ type Estimate struct {
 
 // CellError records one failed fit.
 type CellError struct {
-	Seed uint64 `json:"seed"`
-	Msg  string `json:"msg"`
+	Seed      uint64 `json:"seed"`
+	ModelSeed int    `json:"model_seed,omitempty"` // 0 for the first (or only) model seed
+	Msg       string `json:"msg"`
 }
 
 // Num is a float64 that encodes NaN and ±Inf as JSON null (JSON has no

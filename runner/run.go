@@ -101,6 +101,9 @@ type model struct {
 	spec   spec.Model
 	key    string
 	fitter models.Fitter
+	// seeds is the number of model seeds fitted per data seed: the spec's
+	// [seeds] models for a family with randomness of its own, else 1.
+	seeds int
 }
 
 type run struct {
@@ -112,6 +115,10 @@ type run struct {
 	models []model
 	values []float64
 	exact  bool // split in coefficient space with w = diag Σ
+	// truthY is f* at the test inputs (nil on a held-out basis, and per
+	// seed under a per-seed truth; see target).
+	truthY []float64
+	weight []float64 // w_j of the test inputs (test-input bases)
 	st     *store
 	mem    sync.Map // seed → *entry, when there is no cache folder
 
@@ -126,13 +133,31 @@ func newRun(s *spec.Spec, opt Options) (*run, error) {
 	}
 	r.src = src
 	r.prob = src.Problem()
+	// Exact risks and splits need a known input law and fits the runner
+	// can evaluate under it (linear in the input columns); otherwise every
+	// model is measured on the same test inputs, so the tables compare.
 	r.exact = r.prob.Sigma != nil
 	for _, m := range s.Models {
 		f, err := newFitter(m)
 		if err != nil {
 			return nil, fmt.Errorf("model %q: %w", m.Label, err)
 		}
-		r.models = append(r.models, model{spec: m, key: spec.ModelKey(m, s.Grid.Param), fitter: f})
+		ms := 1
+		if spec.Randomized(m.Family) {
+			ms = max(s.Seeds.Models, 1)
+		}
+		r.models = append(r.models, model{spec: m, key: spec.ModelKey(m, s.Grid.Param), fitter: f, seeds: ms})
+		r.exact = r.exact && spec.Linear(m.Family)
+	}
+	if !r.exact {
+		r.weight = r.prob.TestW
+		if r.weight == nil {
+			m, _ := r.prob.TestX.Dims()
+			r.weight = make([]float64, m)
+			for j := range r.weight {
+				r.weight[j] = 1 / float64(m)
+			}
+		}
 	}
 	if opt.CacheDir != "" {
 		r.st = &store{dir: opt.CacheDir}
@@ -141,6 +166,16 @@ func newRun(s *spec.Spec, opt Options) (*run, error) {
 }
 
 func (r *run) seed(i int) uint64 { return r.s.Seeds.Start + uint64(i) }
+
+// cells is the number of cells of the run: per model, grid values × data
+// seeds × its model seeds.
+func (r *run) cells() int {
+	n := 0
+	for _, m := range r.models {
+		n += len(r.values) * r.s.Seeds.Count * m.seeds
+	}
+	return n
+}
 
 // entryKey addresses the cache entry of one seed. Any new influence on a
 // cell that is not in the data key, the model key or the cell key must be
@@ -153,8 +188,15 @@ func (r *run) entryKey(seed uint64) string {
 	return hex.EncodeToString(h.Sum(nil))
 }
 
-func cellKey(modelKey, param string, v float64) string {
-	return modelKey + " " + param + " " + strconv.FormatFloat(v, 'g', -1, 64)
+// cellKey addresses a cell within a seed's entry. Model seed 0 has no
+// suffix, so a family without randomness of its own, and the first model
+// seed of one with, keep their cells when model seeds are added.
+func cellKey(modelKey, param string, v float64, modelSeed int) string {
+	k := modelKey + " " + param + " " + strconv.FormatFloat(v, 'g', -1, 64)
+	if modelSeed > 0 {
+		k += " #" + strconv.Itoa(modelSeed)
+	}
+	return k
 }
 
 func (r *run) load(seed uint64) (*entry, bool) {
@@ -201,7 +243,7 @@ func (r *run) fitAll(ctx context.Context) error {
 				r.opt.Progress(Progress{
 					Computed: int(r.computed.Load()),
 					Cached:   int(r.cached.Load()),
-					Total:    len(r.models) * len(r.values) * r.s.Seeds.Count,
+					Total:    r.cells(),
 				})
 			}
 			if err != nil || !changed {
@@ -232,21 +274,24 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 		e = &entry{Cells: map[string]*cell{}}
 	}
 	type todo struct {
-		m      *model
-		values []float64
+		m         *model
+		modelSeed int
+		values    []float64
 	}
 	var work []todo
 	for i := range r.models {
 		m := &r.models[i]
-		var missing []float64
-		for _, v := range r.values {
-			if _, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v)]; !ok || r.opt.Fresh {
-				missing = append(missing, v)
+		for ms := range m.seeds {
+			var missing []float64
+			for _, v := range r.values {
+				if _, ok := e.Cells[cellKey(m.key, r.s.Grid.Param, v, ms)]; !ok || r.opt.Fresh {
+					missing = append(missing, v)
+				}
 			}
-		}
-		r.cached.Add(int64(len(r.values) - len(missing)))
-		if len(missing) > 0 {
-			work = append(work, todo{m, missing})
+			r.cached.Add(int64(len(r.values) - len(missing)))
+			if len(missing) > 0 {
+				work = append(work, todo{m, ms, missing})
+			}
 		}
 	}
 	if len(work) == 0 {
@@ -260,6 +305,10 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 		e.Beta = smp.Beta
 	}
 	train := models.NewTrain(smp.X, smp.Y) // shared by the models of this seed
+	if !r.exact {
+		train.Test = r.prob.TestX
+	}
+	target := r.target(e.Beta)
 	// ysq[k] = Σ_{i<k} y_i², the scale of the interpolation test for the
 	// first k rows, once per seed rather than once per cell.
 	ysq := make([]float64, len(smp.Y)+1)
@@ -267,13 +316,29 @@ func (r *run) fitSeed(seed uint64) (*entry, bool, error) {
 		ysq[i+1] = ysq[i] + y*y
 	}
 	for _, w := range work {
+		train.SetSeeds(r.key, seed, uint64(w.modelSeed))
 		fits := safePath(w.m.fitter, train, r.s.Grid.Param, w.values)
 		for i, v := range w.values {
-			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v)] = r.reduceFit(smp, ysq, v, &fits[i])
+			e.Cells[cellKey(w.m.key, r.s.Grid.Param, v, w.modelSeed)] = r.reduceFit(smp, ysq, target, v, &fits[i])
 		}
 		r.computed.Add(int64(len(w.values)))
 	}
 	return e, true, nil
+}
+
+// target returns f* at the test inputs: the fixed truth's, or under a
+// per-seed truth the seed's own (TestX β_s); nil on a held-out basis.
+func (r *run) target(seedBeta []float64) []float64 {
+	if r.exact || !r.prob.TruthKnown {
+		return r.prob.TestY
+	}
+	if r.prob.TestY != nil {
+		return r.prob.TestY
+	}
+	if seedBeta == nil {
+		return nil
+	}
+	return r.predict(seedBeta, 0)
 }
 
 // safePath calls the fitter and turns a panic into an error on every fit of
@@ -295,8 +360,9 @@ func safePath(f models.Fitter, t *models.Train, knob string, values []float64) (
 }
 
 // reduceFit keeps of a fit what the reduction needs, and its risk. ysq
-// holds the prefix sums of y².
-func (r *run) reduceFit(smp *data.Sample, ysq []float64, v float64, f *models.Fit) *cell {
+// holds the prefix sums of y²; target is f* at the test inputs (or the
+// observed test responses on a held-out basis).
+func (r *run) reduceFit(smp *data.Sample, ysq, target []float64, v float64, f *models.Fit) *cell {
 	if f.Err != nil {
 		return &cell{Err: f.Err.Error()}
 	}
@@ -309,31 +375,57 @@ func (r *run) reduceFit(smp *data.Sample, ysq []float64, v float64, f *models.Fi
 		n = int(v)
 	}
 	c.Interp = f.TrainRisk <= InterpTol*ysq[n]/float64(n)
-	if r.exact {
+	switch {
+	case r.exact:
 		c.Coef = f.Coef
 		beta := r.prob.Beta
 		if beta == nil {
 			beta = smp.Beta
 		}
 		c.Risk = r.exactRisk(f.Coef, f.Intercept, beta)
-	} else {
-		c.Pred = r.predict(f.Coef, f.Intercept)
-		var ss float64
-		for j, p := range c.Pred {
-			d := p - r.prob.TestY[j]
-			ss += d * d
+	default:
+		c.Pred = f.Pred
+		if c.Pred == nil {
+			c.Pred = r.predict(f.Coef, f.Intercept)
 		}
-		c.Risk = ss / float64(len(c.Pred))
+		m, _ := r.prob.TestX.Dims()
+		if len(c.Pred) != m {
+			return &cell{Err: fmt.Sprintf("%d predictions for %d test inputs (method %s)", len(c.Pred), m, f.Method)}
+		}
+		c.Risk = r.testRisk(c.Pred, target)
 	}
 	for _, v := range []struct {
 		name string
 		x    float64
-	}{{"risk", c.Risk}, {"training risk", c.TrainRisk}, {"norm", c.Norm}, {"df", c.DF}} {
+	}{{"risk", c.Risk}, {"training risk", c.TrainRisk}, {"norm", c.Norm}} {
 		if math.IsNaN(v.x) || math.IsInf(v.x, 0) {
 			return &cell{Err: fmt.Sprintf("non-finite %s %v (method %s)", v.name, v.x, f.Method)}
 		}
 	}
+	if math.IsInf(c.DF, 0) {
+		return &cell{Err: fmt.Sprintf("infinite df (method %s)", f.Method)}
+	}
 	return c
+}
+
+// testRisk is the risk measured on the test inputs x_j with weights w_j:
+//
+//	known truth:  R = Σ_j w_j (f(x_j) − f*(x_j))² + Var ε
+//	held out:     R = Σ_j w_j (f(x_j) − y_j)²
+//
+// With quadrature weights the first is the true risk up to the rule's
+// error; with m independent inputs (w_j = 1/m) it is a Monte Carlo
+// estimate, whose standard error the reduction reports.
+func (r *run) testRisk(pred, target []float64) float64 {
+	var ss float64
+	for j, p := range pred {
+		d := p - target[j]
+		ss += r.weight[j] * d * d
+	}
+	if r.prob.TruthKnown {
+		ss += r.prob.NoiseVar
+	}
+	return ss
 }
 
 // exactRisk is the true risk of the linear fit x ↦ b0 + xᵀb (b padded with

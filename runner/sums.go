@@ -51,6 +51,12 @@ type PointSums struct {
 	// SumSqDevInput is Σ_s e_sj² per test input (test-input bases only):
 	// the per-input variance profile.
 	SumSqDevInput []float64 `json:"sum_sq_dev_per_input,omitempty"`
+	// ModelVar is, per seed, the within-seed variance over model seeds
+	// Σ_m ⟨e_sm − ê_s, e_sm − ê_s⟩/(M−1) (families with randomness of
+	// their own and M > 1 only). With model seeds, the per-seed lists hold
+	// means over the seed's M fits, SumDev sums the per-seed means ê_s and
+	// SumSqDev sums mean_m ⟨e_sm, e_sm⟩.
+	ModelVar []float64 `json:"model_var,omitempty"`
 }
 
 // Split returns bias² and variance from the sums (see split):
@@ -105,6 +111,7 @@ func (a *Sums) Merge(b *Sums) error {
 			pa.TrainRisk = append(pa.TrainRisk, pb.TrainRisk...)
 			pa.Norm = append(pa.Norm, pb.Norm...)
 			pa.DF = append(pa.DF, pb.DF...)
+			pa.ModelVar = append(pa.ModelVar, pb.ModelVar...)
 			pa.Interp += pb.Interp
 			for k, v := range pb.SumDev {
 				pa.SumDev[k] += v
