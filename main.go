@@ -293,8 +293,13 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	plan := runner.Size(s, *jobs)
 	fmt.Fprintf(stdout, "# %s: valid\n", s.Path)
 	fmt.Fprintf(stdout, "# hash   %s\n", s.Hash())
-	fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds), %d path fits\n",
-		plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, plan.Paths)
+	if c := len(s.Models) * len(s.Grid.Values) * plan.Seeds; c != plan.Cells {
+		fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds, × %d model seeds for the randomized families), %d path fits\n",
+			plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, s.Seeds.Models, plan.Paths)
+	} else {
+		fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds), %d path fits\n",
+			plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, plan.Paths)
+	}
 	fmt.Fprintf(stdout, "# memory about %s at peak with %d workers (estimate)\n", bytesIEC(plan.PeakBytes), *jobs)
 	fmt.Fprintf(stdout, "# resolved spec:\n%s", s.Canonical())
 	if *inputs {

@@ -4,8 +4,8 @@ import "riskgrid/spec"
 
 // Plan is the size of a run, known before it starts.
 type Plan struct {
-	Cells int // models × grid values × seeds
-	Paths int // models × seeds: one path fit covers every grid value
+	Cells int // (models × their model seeds) × grid values × data seeds
+	Paths int // (models × their model seeds) × data seeds: one path fit covers every grid value
 	Seeds int
 	// PeakBytes estimates the peak of live heap data: per worker one
 	// training draw, the factorizations of a path, the Gram matrices the
@@ -45,9 +45,17 @@ func Size(s *spec.Spec, workers int) Plan {
 		d*(k+1) + // a transposed QR past the threshold
 		2*int64(m)*coefs) // the entry, written and encoded
 	once := 8 * (int64(s.Data.NTest)*d + int64(m*g)*(d+1) + int64(m*g*S)*6)
+	fits := 0 // path fits per data seed: one per model seed
+	for _, md := range s.Models {
+		if spec.Randomized(md.Family) {
+			fits += max(s.Seeds.Models, 1)
+		} else {
+			fits++
+		}
+	}
 	return Plan{
-		Cells:     m * g * S,
-		Paths:     m * S,
+		Cells:     fits * g * S,
+		Paths:     fits * S,
 		Seeds:     S,
 		PeakBytes: int64(workers)*perWorker + once,
 	}

@@ -2,6 +2,7 @@ package runner
 
 import (
 	"fmt"
+	"math"
 
 	"riskgrid/data"
 	"runtime"
@@ -18,7 +19,8 @@ import (
 type point struct {
 	seeds                 []uint64
 	risk, train, norm, df []float64
-	interp, fits          int // fits that interpolate, of fits reduced
+	interp, fits          int       // fits that interpolate, of fits reduced
+	cond                  []float64 // per fit, NaN dropped
 	errs                  []CellError
 	sp                    *split
 	modelVar              []float64 // per seed: Σ_m ⟨e_sm − ê_s, ·⟩/(M−1), M > 1
@@ -117,6 +119,9 @@ func (r *run) reduce() (*Result, *Sums, error) {
 						df += c.DF / M
 						if c.Interp {
 							p.interp++
+						}
+						if !math.IsNaN(c.Cond) {
+							p.cond = append(p.cond, c.Cond)
 						}
 					}
 					p.fits += len(cells)
@@ -297,6 +302,8 @@ func (r *run) finish(v float64, p *point, res *Result, modelSeeds int) Point {
 	pt.RiskMedian = Num(quantile(sorted, 0.5))
 	pt.RiskQ3 = Num(quantile(sorted, 0.75))
 	pt.HeavyTail = heavyTail(sorted)
+	sort.Float64s(p.cond)
+	pt.CondMedian = Num(quantile(p.cond, 0.5))
 	if p.fits > 0 {
 		pt.Interpolating = Num(float64(p.interp) / float64(p.fits))
 	} else {

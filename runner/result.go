@@ -99,6 +99,10 @@ type Point struct {
 	RiskQ1     Num `json:"risk_q1"`
 	RiskMedian Num `json:"risk_median"`
 	RiskQ3     Num `json:"risk_q3"`
+	// CondMedian is the median over fits of the condition number (estimate)
+	// of the system each fit solved (models.Fit.Cond); null when the family
+	// reports none.
+	CondMedian Num `json:"cond_median"`
 	// HeavyTail flags a point whose mean risk is carried by a few seeds.
 	HeavyTail bool `json:"heavy_tail"`
 	// Interpolating is the share of seeds whose training risk is below
