@@ -1,6 +1,7 @@
 package spec
 
 import (
+	"maps"
 	"strings"
 	"testing"
 )
@@ -179,5 +180,30 @@ func TestModelKey(t *testing.T) {
 	}
 	if len(ModelKey(r, ParamFeatures)) != 64 {
 		t.Errorf("ModelKey is not a hex SHA-256")
+	}
+}
+
+// TestModelKeyFamilyParams checks that every written parameter and choice
+// of a family enters its model key, and the grid param does not.
+func TestModelKeyFamilyParams(t *testing.T) {
+	net := Model{Family: FamilyTwoLayer, Params: map[string]float64{
+		"width": 10, "steps": 100, "step_size": 0.05, "init_scale": 1, "batch": 0}}
+	for _, k := range []string{"width", "steps", "step_size", "init_scale", "batch"} {
+		other := net
+		other.Params = maps.Clone(net.Params)
+		other.Params[k]++
+		if ModelKey(net, ParamNTrain) == ModelKey(other, ParamNTrain) {
+			t.Errorf("ModelKey ignores %s", k)
+		}
+		if k == "width" && ModelKey(net, ParamWidth) != ModelKey(other, ParamWidth) {
+			t.Errorf("ModelKey depends on width on a width grid")
+		}
+	}
+	rf := Model{Family: FamilyRandomFeatures, Params: map[string]float64{"features": 5, "scale": 1},
+		Options: map[string]string{"activation": "relu"}}
+	fourier := rf
+	fourier.Options = map[string]string{"activation": "fourier"}
+	if ModelKey(rf, ParamLambda) == ModelKey(fourier, ParamLambda) {
+		t.Errorf("ModelKey ignores the activation")
 	}
 }

@@ -171,6 +171,21 @@ var roundTripSpecs = map[string]string{
 	"csv fraction":      pieces{data: csvOK + "test_fraction = 0.1\nsampling = \"bootstrap\"\nfeatures = [\"b\", \"a\"]\n", grid: "[grid]\nparam = \"features\"\nvalues = [1, 2]\n"}.src(),
 	"csv n_test":        pieces{data: csvOK + "n_test = 7\n", model: "[[model]]\nfamily = \"ridge\"\nlambda = 3\n"}.src(),
 	"plus-minus tables": pieces{seeds: seedsOK + "[tables]\nse_style = \"plus-minus\"\n"}.src(),
+	"every family on n_train, model seeds": pieces{
+		data: "[data]\nsource = \"linear-gaussian\"\ndim = 10\nnoise = { sd = 1 }\n",
+		model: "[[model]]\nfamily = \"random-features\"\nfeatures = 40\nactivation = \"fourier\"\nscale = 2\n" +
+			"[[model]]\nfamily = \"polynomial\"\ndegree = 5\nlow = 0\nhigh = 3\nbasis = \"chebyshev\"\nlambda = 1e-3\n" +
+			"[[model]]\nfamily = \"kernel-ridge\"\nbandwidth = 0.5\nkernel = \"laplace\"\n" +
+			"[[model]]\nfamily = \"nearest-neighbours\"\nneighbours = 3\n" +
+			"[[model]]\nfamily = \"gradient-descent\"\nsteps = 100\n" +
+			"[[model]]\nfamily = \"two-layer-net\"\nwidth = 20\nsteps = 50\nbatch = 8\n",
+		grid:  "[grid]\nparam = \"n_train\"\nvalues = [5, 10]\n",
+		seeds: "[seeds]\ncount = 3\nmodels = 4\n",
+	}.src(),
+	"width grid": pieces{
+		model: "[[model]]\nfamily = \"two-layer-net\"\nsteps = 10\nstep_size = 0.1\ninit_scale = 0.5\n",
+		grid:  "[grid]\nparam = \"width\"\nfrom = 1\nto = 100\npoints = 4\nspacing = \"log\"\n",
+	}.src(),
 }
 
 func TestCanonicalRoundTrip(t *testing.T) {
