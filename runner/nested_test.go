@@ -5,6 +5,8 @@ import (
 	"math"
 	"testing"
 
+	"gonum.org/v1/gonum/floats/scalar"
+
 	"riskgrid/data"
 	"riskgrid/models"
 	"riskgrid/spec"
@@ -265,6 +267,54 @@ count = 20
 		q := mc.Models[0].Points[i]
 		if d := float64(q.Risk.Mean - p.Risk.Mean); math.Abs(d) > 4*float64(q.RiskMCSE) {
 			t.Errorf("p=%g: Monte Carlo risk %v, exact %v: differ by %g > 4 MC SE (%v)", p.Value, q.Risk.Mean, p.Risk.Mean, d, q.RiskMCSE)
+		}
+	}
+}
+
+// TestSumsMergeNested checks the one-pass split of merged sums against the
+// full run under model seeds: two shards over disjoint data seeds give the
+// full run's bias² and total variance.
+func TestSumsMergeNested(t *testing.T) {
+	defer func(f func(spec.Model) (models.Fitter, error)) { newFitter = f }(newFitter)
+	newFitter = func(m spec.Model) (models.Fitter, error) {
+		if m.Family == spec.FamilyRandomFeatures {
+			return noisyRidge{&models.Ridge{Lambda: m.Lambda}, 0.4}, nil
+		}
+		return models.New(m)
+	}
+	src := func(count, start int) string {
+		return fmt.Sprintf(`
+name = "merge"
+[data]
+source = "linear-gaussian"
+n_train = 12
+n_test = 50
+dim = 6
+noise = { sd = 0.5 }
+[[model]]
+family = "random-features"
+features = 6
+[grid]
+param = "lambda"
+values = [0.01, 1]
+[seeds]
+count = %d
+start = %d
+models = 3
+`, count, start)
+	}
+	full := runSums(t, src(12, 1))
+	a, b := runSums(t, src(5, 1)), runSums(t, src(7, 6))
+	if err := a.Sums.Merge(b.Sums); err != nil {
+		t.Fatal(err)
+	}
+	for pi, ps := range a.Sums.Models[0].Points {
+		want := full.Result.Models[0].Points[pi]
+		b2, v := ps.Split(a.Sums.Weights, a.Sums.ModelSeeds)
+		const tol = 1e-9 // one-pass cancellation, as in TestSumsMergeShards
+		if !scalar.EqualWithinAbsOrRel(b2, float64(want.Bias2.Mean), tol, tol) ||
+			!scalar.EqualWithinAbsOrRel(v, float64(want.Variance.Mean), tol, tol) {
+			t.Errorf("λ=%v: merged bias² %v, variance %v; full run %v, %v", ps.Value, b2, v, want.Bias2.Mean, want.Variance.Mean)
 		}
 	}
 }

@@ -165,7 +165,7 @@ func (r *run) reduce() (*Result, *Sums, error) {
 		res.RiskBasis, res.SplitBasis, res.TestPoints = RiskTestSet, SplitLumped, len(r.weight)
 	}
 	sums := &Sums{Schema: SumsSchema, Hash: res.Hash, DataKey: r.key, SplitBasis: res.SplitBasis,
-		Param: res.Param, Weights: w}
+		Param: res.Param, Weights: w, ModelSeeds: res.ModelSeeds}
 	for mi, m := range r.models {
 		mr := ModelResult{Label: m.spec.Label, Family: m.spec.Family}
 		ms := ModelSums{Label: m.spec.Label, Key: m.key}

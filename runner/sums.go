@@ -24,7 +24,8 @@ type Sums struct {
 	DataKey    string      `json:"data_key"`    // shards must share it
 	SplitBasis string      `json:"split_basis"` // as Result.SplitBasis
 	Param      string      `json:"param"`
-	Weights    []float64   `json:"weights"` // w_j of ⟨u, v⟩ = Σ w_j u_j v_j
+	Weights    []float64   `json:"weights"`     // w_j of ⟨u, v⟩ = Σ w_j u_j v_j
+	ModelSeeds int         `json:"model_seeds"` // M, fits per seed of the randomized families
 	Models     []ModelSums `json:"models"`
 }
 
@@ -59,21 +60,29 @@ type PointSums struct {
 	ModelVar []float64 `json:"model_var,omitempty"`
 }
 
-// Split returns bias² and variance from the sums (see split):
+// Split returns bias² and the total variance from the sums (see split and
+// nestedSplit), with M = ModelSeeds fits per seed:
 //
-//	ē = SumDev/S,  V̂ = (SumSqDev − S⟨ē, ē⟩)/(S−1),  bias² = ⟨ē, ē⟩ − V̂/S.
+//	ē = SumDev/S,  σ̂_m² = mean_s ModelVar_s (0 without model seeds),
+//	V̂_b = (SumSqDev − S⟨ē, ē⟩ − S(1 − 1/M)σ̂_m²)/(S−1),
+//	bias² = ⟨ē, ē⟩ − V̂_b/S,  variance = V̂_b + (1 − 1/M)σ̂_m².
 //
 // The one-pass form loses relative accuracy about ⟨ē,ē⟩/V̂ times eps to
 // cancellation; Run uses the two-pass form.
-func (p *PointSums) Split(w []float64) (bias2, variance float64) {
+func (p *PointSums) Split(w []float64, modelSeeds int) (bias2, variance float64) {
 	s := float64(len(p.Seeds))
 	var b0 float64
 	for j, v := range p.SumDev {
 		m := v / s
 		b0 += w[j] * m * m
 	}
-	variance = (p.SumSqDev - s*b0) / (s - 1)
-	return b0 - variance/s, variance
+	var within float64 // (1 − 1/M) σ̂_m²
+	if len(p.ModelVar) > 0 && modelSeeds > 1 {
+		sm, _ := meanSE(p.ModelVar)
+		within = (1 - 1/float64(modelSeeds)) * sm
+	}
+	vb := (p.SumSqDev - s*b0 - s*within) / (s - 1)
+	return b0 - vb/s, vb + within
 }
 
 // ErrMerge reports Sums that cannot be merged.
@@ -82,7 +91,7 @@ var ErrMerge = errors.New("runner: sums do not merge")
 // Merge adds the seeds of b to a. Both must come from the same data key,
 // models and grid, with disjoint seeds.
 func (a *Sums) Merge(b *Sums) error {
-	if a.Schema != b.Schema || a.DataKey != b.DataKey || a.SplitBasis != b.SplitBasis ||
+	if a.Schema != b.Schema || a.DataKey != b.DataKey || a.SplitBasis != b.SplitBasis || a.ModelSeeds != b.ModelSeeds ||
 		a.Param != b.Param || !slices.Equal(a.Weights, b.Weights) || len(a.Models) != len(b.Models) {
 		return fmt.Errorf("%w: different data, split or knob", ErrMerge)
 	}

@@ -32,7 +32,7 @@ func TestSumsMergeShards(t *testing.T) {
 	for mi, m := range a.Sums.Models {
 		for pi, ps := range m.Points {
 			want := full.Result.Models[mi].Points[pi]
-			b2, v := ps.Split(a.Sums.Weights)
+			b2, v := ps.Split(a.Sums.Weights, a.Sums.ModelSeeds)
 			mean, _ := meanSE(ps.Risk)
 			// The one-pass sums lose ~⟨ē,ē⟩/V̂·eps to cancellation; 1e-9 leaves
 			// room for ratios up to 1e6.
