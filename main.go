@@ -6,6 +6,7 @@
 //	riskgrid run SPEC… [-j N] [-o DIR] [--fresh]
 //	riskgrid check SPEC
 //	riskgrid report DIR
+//	riskgrid verify DIR|SPEC
 package main
 
 import (
@@ -42,6 +43,7 @@ Usage:
   riskgrid run SPEC… [-j N] [-o DIR] [--fresh]   fit every cell and write tables and result.json
   riskgrid check SPEC [-inputs]                  validate a spec and print it resolved, with its size
   riskgrid report DIR                            re-render the tables of a result folder
+  riskgrid verify DIR|SPEC [-within X]           recompute a stored result from scratch and compare
 
 Run 'riskgrid COMMAND -h' for a command's options.
 `
@@ -63,11 +65,13 @@ func cli(args []string, stdout, stderr io.Writer) int {
 		return cmdCheck(args[1:], stdout, stderr)
 	case "report":
 		return cmdReport(args[1:], stdout, stderr)
+	case "verify":
+		return cmdVerify(args[1:], stdout, stderr)
 	case "-h", "-help", "--help", "help":
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "riskgrid: unknown command %q (known: run, check, report)\n\n%s", args[0], usage)
+	fmt.Fprintf(stderr, "riskgrid: unknown command %q (known: run, check, report, verify)\n\n%s", args[0], usage)
 	return exitBadInput
 }
 
