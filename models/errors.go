@@ -19,6 +19,9 @@ var (
 	// ErrNumerical reports a factorization that failed or a result that is
 	// not finite.
 	ErrNumerical = errors.New("models: numerical failure")
+	// ErrDiverge reports an iteration whose step size makes it diverge
+	// (gradient descent with a step above 2/L).
+	ErrDiverge = errors.New("models: iteration diverges")
 	// ErrLeverage reports a training point with leverage h_ii = 1 (to
 	// working precision), for which leave-one-out is undefined.
 	ErrLeverage = errors.New("models: leave-one-out undefined at leverage 1")

@@ -54,7 +54,7 @@ func ExampleNew() {
 	fmt.Println(err)
 	// Output:
 	// *models.Ridge &{Lambda:0.1 Intercept:true} <nil>
-	// models: unknown model family: "lasso" (known: least-squares, ridge)
+	// models: unknown model family: "lasso" (known: least-squares, ridge, gradient-descent)
 }
 
 // Leave-one-out error of the mean (intercept only in effect: λ huge) on
