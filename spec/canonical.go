@@ -41,6 +41,8 @@ func (s *Spec) Canonical() string {
 			kv("test_fraction", fmtFloat(D.TestFraction))
 		}
 		kv("sampling", tomlString(D.Sampling))
+	case SourceCurve, SourceTeacher:
+		D.nonlinearTOML(kv)
 	default:
 		kv("n_test", strconv.Itoa(D.NTest))
 		kv("dim", strconv.Itoa(D.Dim))

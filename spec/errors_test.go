@@ -107,7 +107,7 @@ func TestParseErrors(t *testing.T) {
 		// Missing required keys.
 		{"no name", pieces{top: "-"}, "name", "required key is missing (accepted: a string"},
 		{"no data", pieces{data: "-"}, "data", "required key is missing (accepted: a [data] table"},
-		{"no source", pieces{data: "[data] #<\nn_train = 20\n"}, "data.source", `required key is missing (accepted: "linear-gaussian", "csv")`},
+		{"no source", pieces{data: "[data] #<\nn_train = 20\n"}, "data.source", `required key is missing (accepted: "linear-gaussian", "csv", "curve", "teacher")`},
 		{"no n_train", pieces{data: "[data] #<\nsource = \"linear-gaussian\"\ndim = 50\nnoise = { sd = 0.5 }\n"}, "data.n_train", "required key is missing (accepted: an integer ≥ 1"},
 		{"no dim", pieces{data: "[data] #<\nsource = \"linear-gaussian\"\nn_train = 20\nnoise = { sd = 0.5 }\n"}, "data.dim", "required key is missing (accepted: an integer ≥ 1, the input dimension)"},
 		{"no noise", pieces{data: "[data] #<\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 50\n"}, "data.noise", `required key is missing (accepted: a table such as noise = { kind = "gaussian", sd = 0.5 })`},
@@ -181,7 +181,7 @@ func TestParseErrors(t *testing.T) {
 		{"signal top 0", pieces{data: gen("signal = { kind = \"top\", top = 0 } #<")}, "data.signal.top", "got 0 (accepted: an integer in 1..dim = 1..50)"},
 		{"signal top above dim", pieces{data: gen("signal = { kind = \"top\", top = 51 } #<")}, "data.signal.top", "got 51 (accepted: an integer in 1..dim = 1..50)"},
 		{"signal norm negative", pieces{data: gen("signal = { norm = -1 } #<")}, "data.signal.norm", "got -1 (accepted: a number ≥ 0)"},
-		{"unknown source", pieces{data: "[data]\nsource = \"gaussian\" #<\n"}, "data.source", `unknown source "gaussian" (accepted: "linear-gaussian", "csv")`},
+		{"unknown source", pieces{data: "[data]\nsource = \"gaussian\" #<\n"}, "data.source", `unknown source "gaussian" (accepted: "linear-gaussian", "csv", "curve", "teacher")`},
 		{"unknown spectrum kind", pieces{data: gen("spectrum = { kind = \"powerlaw\" } #<")}, "data.spectrum.kind", `unknown kind "powerlaw" (accepted: "isotropic", "power-law", "spiked", "list")`},
 		{"unknown signal kind", pieces{data: gen("signal = { kind = \"ball\" } #<")}, "data.signal.kind", `(accepted: "sphere", "top", "list")`},
 		{"unknown noise kind", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 50\nnoise = { kind = \"cauchy\", sd = 1 } #<\n"}, "data.noise.kind", `(accepted: "gaussian", "student-t")`},

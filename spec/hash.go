@@ -125,6 +125,8 @@ func (s *Spec) dataLines(w *stream, nested bool) {
 		w.strs("data.features", D.Features)
 		w.f64("data.test_fraction", D.TestFraction)
 		w.str("data.sampling", D.Sampling)
+	case SourceCurve, SourceTeacher:
+		D.nonlinearLines(w)
 	default:
 		w.str("data.truth", D.Truth)
 		w.str("data.spectrum.kind", D.Spectrum.Kind)

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"regexp"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -13,7 +14,7 @@ import (
 
 // Accepted names, in the order error messages list them.
 var (
-	sources    = []string{SourceLinearGaussian, SourceCSV}
+	sources    = []string{SourceLinearGaussian, SourceCSV, SourceCurve, SourceTeacher}
 	spectra    = []string{SpectrumIsotropic, SpectrumPowerLaw, SpectrumSpiked, SpectrumList}
 	signals    = []string{SignalSphere, SignalTop, SignalList}
 	noises     = []string{NoiseGaussian, NoiseStudentT}
@@ -176,7 +177,12 @@ func (d *decoder) spec(root table) (*Spec, error) {
 }
 
 func (d *decoder) data(t table, s *Spec, f *facts) error {
-	all := append(append(append([]string{}, commonData...), genData...), csvData...)
+	var all []string
+	for _, k := range slices.Concat(commonData, genData, csvData, curveData, teacherData) {
+		if !contains(all, k) {
+			all = append(all, k)
+		}
+	}
 	if err := d.known(t, all); err != nil {
 		return err
 	}
@@ -186,10 +192,8 @@ func (d *decoder) data(t table, s *Spec, f *facts) error {
 	}
 	D := &s.Data
 	D.Source = src
-	own := genData
-	if src == SourceCSV {
-		own = csvData
-	}
+	own := map[string][]string{SourceLinearGaussian: genData, SourceCSV: csvData,
+		SourceCurve: curveData, SourceTeacher: teacherData}[src]
 	if err := d.belong(t, append(append([]string{}, commonData...), own...), fmt.Sprintf("source %q", src)); err != nil {
 		return err
 	}
@@ -207,8 +211,13 @@ func (d *decoder) data(t table, s *Spec, f *facts) error {
 	}
 	D.NTrain = int(n)
 
-	if src == SourceLinearGaussian {
+	switch src {
+	case SourceLinearGaussian:
 		return d.generator(t, D)
+	case SourceCurve:
+		return d.curve(t, D)
+	case SourceTeacher:
+		return d.teacher(t, D)
 	}
 	return d.csv(t, D, f)
 }

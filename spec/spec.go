@@ -31,23 +31,29 @@ type Spec struct {
 const (
 	SourceLinearGaussian = "linear-gaussian"
 	SourceCSV            = "csv"
+	SourceCurve          = "curve"   // one input, a non-linear truth f* (Shape)
+	SourceTeacher        = "teacher" // d inputs, a non-linear teacher f* (Teacher)
 )
 
 // Data describes where training and test samples come from.
 type Data struct {
-	// Source is SourceLinearGaussian or SourceCSV. Required.
+	// Source is SourceLinearGaussian, SourceCSV, SourceCurve or
+	// SourceTeacher. Required.
 	Source string `toml:"source"`
 	// NTrain is the training-set size drawn for each seed. Required, > 0.
 	// When the grid param is "n_train" it is set to the largest grid value.
 	NTrain int `toml:"n_train"`
 	// NTest is the number of fixed test inputs (generator) or the size of the
 	// held-out test set (csv, exclusive with TestFraction; see TestSize).
-	// Generator default 1000, ≥ 0; csv ≥ 1 when given, else 0.
+	// Generator default 1000, ≥ 0; csv ≥ 1 when given, else 0; curve: the
+	// number of quadrature nodes, default 2048, ≥ 2; teacher: Monte Carlo
+	// test inputs, default 10000, ≥ 2.
 	NTest int `toml:"n_test"`
 
 	// Generator keys (linear-gaussian).
 
-	// Dim is the input dimension d. Required for the generator.
+	// Dim is the input dimension d. Required for the generator and the
+	// teacher; 1 for a curve (not written).
 	Dim int `toml:"dim"`
 	// Spectrum sets the diagonal covariance Σ. Default isotropic.
 	Spectrum Spectrum `toml:"spectrum"`
@@ -75,6 +81,83 @@ type Data struct {
 	// Sampling is SamplingSubsample (default: n_train rows without
 	// replacement per seed) or SamplingBootstrap (with replacement).
 	Sampling string `toml:"sampling"`
+
+	// Non-linear truth keys (curve, teacher); Noise is shared with the
+	// generator.
+
+	// Inputs is the law of the inputs. curve: InputsUniform (default, on
+	// [-1, 1]) or InputsGaussian (default mean 0, sd 1); teacher:
+	// InputsGaussian (default, N(0, I_d)) or InputsSphere.
+	Inputs Inputs `toml:"inputs"`
+	// Shape is the truth f* of a curve. Required for curve.
+	Shape Shape `toml:"shape"`
+	// Teacher is the truth f* of a teacher. Required for teacher.
+	Teacher Teacher `toml:"teacher"`
+	// Corrupt is the fraction q in [0, 1) of training targets replaced by
+	// the clean target of an independent input (a random label; the test
+	// risk stays against the clean truth). Default 0.
+	Corrupt float64 `toml:"corrupt"`
+}
+
+// Input laws.
+const (
+	InputsUniform  = "uniform"  // curve: x uniform on [Low, High]
+	InputsGaussian = "gaussian" // curve: x ~ N(Mean, SD²); teacher: x ~ N(0, I_d)
+	InputsSphere   = "sphere"   // teacher: x uniform on the sphere of radius √d
+)
+
+// Inputs is the law of the inputs of a curve or a teacher.
+type Inputs struct {
+	Kind string  `toml:"kind"`
+	Low  float64 `toml:"low"`  // uniform, default -1
+	High float64 `toml:"high"` // uniform, > Low, default 1
+	Mean float64 `toml:"mean"` // curve gaussian, default 0
+	SD   float64 `toml:"sd"`   // curve gaussian, > 0, default 1
+}
+
+// Shape kinds: the truth f* of a curve.
+const (
+	ShapeSine       = "sine"       // Amplitude·sin(2π·Frequency·x + Phase)
+	ShapeStep       = "step"       // Left for x < At, Right for x ≥ At
+	ShapePolynomial = "polynomial" // Σ_k Coefficients[k]·x^k
+	ShapeFourier    = "fourier"    // Σ_k Cos[k]·cos(2π·Frequencies[k]·x) + Sin[k]·sin(2π·Frequencies[k]·x)
+)
+
+// Shape is the truth f* of a curve; which fields apply depends on Kind.
+type Shape struct {
+	Kind         string    `toml:"kind"`
+	Amplitude    float64   `toml:"amplitude"`    // sine, default 1
+	Frequency    float64   `toml:"frequency"`    // sine, cycles per unit of x, required
+	Phase        float64   `toml:"phase"`        // sine, radians, default 0
+	At           float64   `toml:"at"`           // step, required
+	Left         float64   `toml:"left"`         // step, required
+	Right        float64   `toml:"right"`        // step, required
+	Coefficients []float64 `toml:"coefficients"` // polynomial, c_0 first, required
+	Frequencies  []float64 `toml:"frequencies"`  // fourier, required
+	Cos          []float64 `toml:"cos"`          // fourier, default zeros, len(Frequencies)
+	Sin          []float64 `toml:"sin"`          // fourier, default zeros, len(Frequencies)
+}
+
+// Teacher kinds.
+const (
+	TeacherSingleIndex = "single-index" // g(wᵀx), w a random unit vector
+	TeacherTwoLayer    = "two-layer"    // Σ_k a_k relu(w_kᵀx), random weights
+)
+
+// Links g of a single-index teacher.
+const (
+	LinkReLU = "relu" // max(0, z)
+	LinkTanh = "tanh" // tanh z
+	LinkHe2  = "he2"  // z² − 1, the probabilists' Hermite polynomial of degree 2
+	LinkHe3  = "he3"  // z³ − 3z, degree 3
+)
+
+// Teacher is the truth f* of a teacher; its weights are drawn once from
+// seeds.truth.
+type Teacher struct {
+	Kind  string `toml:"kind"`
+	Link  string `toml:"link"`  // single-index, required
+	Width int    `toml:"width"` // two-layer, ≥ 1, required
 }
 
 // Truth modes.
