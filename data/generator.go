@@ -22,6 +22,8 @@ const (
 	tagNoise     uint64 = 5 // generator train noise:   (key, 5, seed)
 	tagSplit     uint64 = 6 // csv test/pool split:     (key, 6, seeds.truth)
 	tagSample    uint64 = 7 // csv training rows:       (key, 7, seed)
+	tagCorrupt   uint64 = 8 // curve/teacher: which training targets are corrupted: (key, 8, seed)
+	tagDecoy     uint64 = 9 // curve/teacher: the inputs whose clean targets replace them: (key, 9, seed)
 )
 
 // New returns the source of the spec's [data] table. key is the spec's data
@@ -31,8 +33,8 @@ const (
 //
 // New accepts a resolved spec (spec.Load fills the defaults); for a Spec
 // built in code, an empty kind string means the documented default
-// (isotropic, sphere, gaussian, fixed, subsample), while numbers are taken
-// as written. A setting it cannot use is a *SpecError; a faulty data file
+// (isotropic, sphere, gaussian, fixed, subsample; uniform inputs for a
+// curve, Gaussian for a teacher), while numbers are taken as written. A setting it cannot use is a *SpecError; a faulty data file
 // is an *Error.
 func New(s *spec.Spec, key string) (Source, error) {
 	switch s.Data.Source {
@@ -40,9 +42,14 @@ func New(s *spec.Spec, key string) (Source, error) {
 		return newLinearGaussian(s, key)
 	case spec.SourceCSV:
 		return newCSV(s, key)
+	case spec.SourceCurve:
+		return newCurve(s, key)
+	case spec.SourceTeacher:
+		return newTeacher(s, key)
 	}
 	return nil, &SpecError{Path: s.Path, Key: "source",
-		Msg: fmt.Sprintf("unknown source %q (known: %s, %s)", s.Data.Source, spec.SourceLinearGaussian, spec.SourceCSV)}
+		Msg: fmt.Sprintf("unknown source %q (known: %s, %s, %s, %s)", s.Data.Source,
+			spec.SourceLinearGaussian, spec.SourceCSV, spec.SourceCurve, spec.SourceTeacher)}
 }
 
 // linearGaussian is the linear model with Gaussian inputs
