@@ -347,6 +347,7 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitBadInput
 	}
+	res.Created = readCreated(filepath.Join(dir, "timing.json"))
 	if err := writeTables(dir, res); err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
@@ -356,6 +357,21 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		return exitFailed
 	}
 	return exitOK
+}
+
+// readCreated returns the run's start time recorded in timing.json, for the
+// tables' provenance line; "" (the tables say "date unknown") when the file
+// is missing or unreadable, which does not stop a re-render.
+func readCreated(path string) string {
+	b, err := os.ReadFile(path)
+	if err != nil {
+		return ""
+	}
+	var tm runner.Timing
+	if json.Unmarshal(b, &tm) != nil {
+		return ""
+	}
+	return tm.Created
 }
 
 func readResult(path string) (*runner.Result, error) {

@@ -175,3 +175,58 @@ func TestUsage(t *testing.T) {
 		}
 	}
 }
+
+// tableFiles are the tables a run writes into its result folder.
+var tableFiles = []string{"table.md", "table.csv"}
+
+// TestTablesDeterministicAcrossWorkers checks that the tables written by a
+// run do not depend on -j, and that `report` re-renders them byte for byte.
+// The tables carry the run's date, so the -j 8 folder gets the -j 1 run's
+// timing.json (the same date injected) and is re-rendered by `report`; its
+// tables must then equal those the -j 1 run wrote.
+func TestTablesDeterministicAcrossWorkers(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny.toml", tinySpec)
+	folder := func(out string) string {
+		m, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
+		if len(m) != 1 {
+			t.Fatalf("result folders %v, want one", m)
+		}
+		return m[0]
+	}
+	var res [2]string
+	for i, j := range []string{"1", "8"} {
+		out := filepath.Join(dir, "out"+j)
+		if status, _, stderr := runCLI("run", sp, "-o", out, "-j", j); status != exitOK {
+			t.Fatalf("run -j %s: status %d, stderr %s", j, status, stderr)
+		}
+		res[i] = folder(out)
+	}
+	timing, err := os.ReadFile(filepath.Join(res[0], "timing.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var tm runner.Timing
+	if err := json.Unmarshal(timing, &tm); err != nil || tm.Created == "" {
+		t.Fatalf("timing.json: %v, created %q", err, tm.Created)
+	}
+	if err := os.WriteFile(filepath.Join(res[1], "timing.json"), timing, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if status, _, stderr := runCLI("report", res[1]); status != exitOK {
+		t.Fatalf("report: status %d, stderr %s", status, stderr)
+	}
+	for _, f := range tableFiles {
+		a, errA := os.ReadFile(filepath.Join(res[0], f))
+		b, errB := os.ReadFile(filepath.Join(res[1], f))
+		if errA != nil || errB != nil {
+			t.Fatalf("%s: %v, %v", f, errA, errB)
+		}
+		if !bytes.Equal(a, b) {
+			t.Errorf("%s written by run -j 1 differs from report of the -j 8 result with the same date:\n%s\n---\n%s", f, a, b)
+		}
+		if !bytes.Contains(a, []byte(tm.Created[:10])) {
+			t.Errorf("%s does not carry the run's date %s:\n%s", f, tm.Created[:10], a)
+		}
+	}
+}

@@ -20,6 +20,7 @@ var csvHeader = []string{
 	"sum", "df", "df_se", "norm", "norm_se",
 	"interpolating", "heavy_tail", "errors",
 	"risk_basis", "split_basis", "spec_hash",
+	"spec_name", "engine", "seed_first", "seed_last", "run_started",
 }
 
 // CSV writes r as one tidy table (RFC 4180, encoding/csv): a header row,
@@ -27,8 +28,16 @@ var csvHeader = []string{
 // Numbers are in full precision (the shortest form that reads back to the
 // same float64); NaN and ±Inf are empty cells. errors is the number of
 // failed cells, heavy_tail is true or false, risk_basis and split_basis are
-// the Result's own codes and spec_hash is the full hash. Under the lumped
-// split bias2 holds bias² + noise, as in the Result.
+// the Result's own codes. Under the lumped split bias2 holds bias² + noise,
+// as in the Result.
+//
+// The provenance goes in columns, repeated on every row, rather than in
+// comment lines, which CSV does not have and pandas or R would have to be
+// told to skip: spec_hash (the full hash), spec_name, engine, seed_first and
+// seed_last (the seeds requested; empty when the Result does not say where
+// they start) and run_started (Result.Created, RFC 3339 UTC; empty when
+// unknown). A file stays one row per model × grid value, and rows of
+// several runs can be stacked and still told apart.
 //
 // The whole output is formatted before the first byte is written, so an
 // inconsistent Result (ErrResult) writes nothing.
@@ -41,10 +50,11 @@ func CSV(w io.Writer, r *runner.Result) error {
 	if err := cw.Write(csvHeader); err != nil {
 		return fmt.Errorf("reports: csv header: %w", err)
 	}
+	pv := provenanceOf(r)
 	for i := range r.Models {
 		m := &r.Models[i]
 		for j := range m.Points {
-			if err := cw.Write(csvRow(r, m, &m.Points[j])); err != nil {
+			if err := cw.Write(csvRow(r, pv, m, &m.Points[j])); err != nil {
 				return fmt.Errorf("reports: csv row %s %s=%s: %w", m.Label, r.Param, knob(m.Points[j].Value), err)
 			}
 		}
@@ -59,7 +69,7 @@ func CSV(w io.Writer, r *runner.Result) error {
 	return nil
 }
 
-func csvRow(r *runner.Result, m *runner.ModelResult, p *runner.Point) []string {
+func csvRow(r *runner.Result, pv provenance, m *runner.ModelResult, p *runner.Point) []string {
 	return []string{
 		m.Label, m.Family, r.Param, full(p.Value), strconv.Itoa(p.Seeds),
 		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3),
@@ -69,6 +79,7 @@ func csvRow(r *runner.Result, m *runner.ModelResult, p *runner.Point) []string {
 		full(p.Sum), full(p.DF.Mean), full(p.DF.SE), full(p.Norm.Mean), full(p.Norm.SE),
 		full(p.Interpolating), strconv.FormatBool(p.HeavyTail), strconv.Itoa(len(p.Errors)),
 		r.RiskBasis, r.SplitBasis, r.Hash,
+		r.Name, r.Engine, pv.first, pv.last, r.Created,
 	}
 }
 

@@ -16,6 +16,8 @@ func exampleResult() *runner.Result {
 		Name:       "ridge-path",
 		Hash:       "0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef",
 		Engine:     "e1",
+		SpecTOML:   "name = \"ridge-path\"\n[seeds]\ncount = 10\nstart = 1\n",
+		Created:    "2025-06-30T14:05:09Z",
 		Param:      "lambda",
 		Seeds:      10,
 		RiskBasis:  runner.RiskExact,
@@ -51,7 +53,7 @@ func ExampleTerminal() {
 		log.Fatal(err)
 	}
 	// Output:
-	// ridge-path (spec 0123456789ab, engine e1)
+	// ridge-path
 	//
 	// ridge [ridge]: grid lambda, 10 seeds; true risk (exact); bias²/variance exact over the input distribution
 	// +--------+-------+-------+--------+--------+--------+------------------+-------+-------+-------+----------+--------+-------+-------+--------+-------+------+
@@ -61,6 +63,8 @@ func ExampleTerminal() {
 	// |    0.1 | 1.612 | 0.023 |  1.601 |  0.701 |  0.020 |            0.911 | 0.028 | 0.403 | 0.012 |   0.2099 | 0.0088 | 1.000 | 1.613 |  21.34 | 1.234 |      |
 	// +--------+-------+-------+--------+--------+--------+------------------+-------+-------+-------+----------+--------+-------+-------+--------+-------+------+
 	// ! mean carried by a few seeds; read the median
+	//
+	// spec ridge-path, hash 0123456789ab, engine e1, seeds 1–10, run 2025-06-30 14:05 UTC
 }
 
 func ExampleMarkdown() {
@@ -79,7 +83,7 @@ func ExampleMarkdown() {
 	//
 	// - ! mean carried by a few seeds; read the median
 	//
-	// Spec `ridge-path`, hash `0123456789ab`, engine `e1`, 10 seeds, true risk (exact).
+	// Spec `ridge-path`, hash `0123456789ab`, engine `e1`, seeds 1–10, run 2025-06-30 14:05 UTC; true risk (exact).
 }
 
 func ExampleCSV() {
@@ -87,7 +91,7 @@ func ExampleCSV() {
 		log.Fatal(err)
 	}
 	// Output:
-	// model,family,param,value,seeds,risk,risk_se,risk_q1,risk_median,risk_q3,train_risk,train_risk_se,gap,gap_se,bias2,bias2_se,variance,variance_se,noise,noise_se,sum,df,df_se,norm,norm_se,interpolating,heavy_tail,errors,risk_basis,split_basis,spec_hash
-	// ridge,ridge,lambda,0.001,10,14.2871,9.3127,2.31,3.0412,4.87,0.0123,0.0041,14.2748,9.3101,0.2213,0.0512,13.066,9.2,1,0,14.2873,49.62,0.031,6.1234,2.01,0,true,0,exact,exact,0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef
-	// ridge,ridge,lambda,0.1,10,1.61234,0.02345,1.55,1.6011,1.67,0.70123,0.01987,0.91111,0.02789,0.40321,0.01234,0.20987,0.00876,1,0,1.61308,21.345,0.123,1.2345,,0,false,0,exact,exact,0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef
+	// model,family,param,value,seeds,risk,risk_se,risk_q1,risk_median,risk_q3,train_risk,train_risk_se,gap,gap_se,bias2,bias2_se,variance,variance_se,noise,noise_se,sum,df,df_se,norm,norm_se,interpolating,heavy_tail,errors,risk_basis,split_basis,spec_hash,spec_name,engine,seed_first,seed_last,run_started
+	// ridge,ridge,lambda,0.001,10,14.2871,9.3127,2.31,3.0412,4.87,0.0123,0.0041,14.2748,9.3101,0.2213,0.0512,13.066,9.2,1,0,14.2873,49.62,0.031,6.1234,2.01,0,true,0,exact,exact,0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef,ridge-path,e1,1,10,2025-06-30T14:05:09Z
+	// ridge,ridge,lambda,0.1,10,1.61234,0.02345,1.55,1.6011,1.67,0.70123,0.01987,0.91111,0.02789,0.40321,0.01234,0.20987,0.00876,1,0,1.61308,21.345,0.123,1.2345,,0,false,0,exact,exact,0123456789abcdef0123456789abcdef0123456789abcdef0123456789abcdef,ridge-path,e1,1,10,2025-06-30T14:05:09Z
 }

@@ -73,6 +73,8 @@ func synthetic() *runner.Result {
 		Name:       "double-descent-demo",
 		About:      "min-norm least squares against ridge across p at n = 50",
 		Hash:       "3f9a0c1de27b48a6c5f0e1d2b3a4958677a8b9c0d1e2f3a4b5c6d7e8f9a0b1c2",
+		SpecTOML:   "name = \"double-descent-demo\"\n\n[seeds]\ncount = 20\nstart = 101\ntruth = 0\n",
+		Created:    "2025-06-30T14:05:09Z",
 		Param:      "p",
 		Seeds:      20,
 		NTrain:     50,
@@ -87,7 +89,7 @@ func synthetic() *runner.Result {
 
 // lumpedResult is synthetic() measured on a held-out test set of a data file
 // with unknown truth: risk on 500 test points, the bias² column holding
-// bias² + noise, noise NaN.
+// bias² + noise, noise NaN; no spec text or run date.
 func lumpedResult() *runner.Result {
 	r := synthetic()
 	r.Name = "double-descent-file"
@@ -95,6 +97,10 @@ func lumpedResult() *runner.Result {
 	r.RiskBasis = runner.RiskTestSet
 	r.SplitBasis = runner.SplitLumped
 	r.TestPoints = 500
+	// A Result read without its timing.json or spec: the provenance says
+	// "date unknown" and counts the seeds without their range.
+	r.SpecTOML = ""
+	r.Created = ""
 	for i := range r.Models {
 		for j := range r.Models[i].Points {
 			p := &r.Models[i].Points[j]

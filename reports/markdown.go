@@ -17,7 +17,8 @@ import (
 // a line saying how risk and the split were measured, a table with the
 // same columns and rounding as Terminal, footnotes for heavy-tailed points
 // and failed cells (messages in code spans), and a provenance line (spec
-// name, first 12 hex digits of the spec hash, engine, seeds, risk basis).
+// name, first 12 hex digits of the spec hash, engine, seeds, the run's date,
+// risk basis).
 //
 // The whole output is formatted before the first byte is written, so an
 // inconsistent Result (ErrResult) writes nothing.
@@ -26,6 +27,7 @@ func Markdown(w io.Writer, r *runner.Result) error {
 		return err
 	}
 	var buf bytes.Buffer
+	pv := provenanceOf(r)
 	for i := range r.Models {
 		m := &r.Models[i]
 		if i > 0 {
@@ -49,8 +51,8 @@ func Markdown(w io.Writer, r *runner.Result) error {
 				fmt.Fprintf(&buf, "- %s\n", n)
 			}
 		}
-		fmt.Fprintf(&buf, "\nSpec `%s`, hash `%s`, engine `%s`, %d seeds, %s.\n",
-			r.Name, shortHash(r.Hash), r.Engine, r.Seeds, riskText(r))
+		fmt.Fprintf(&buf, "\nSpec %s, hash `%s`, engine %s, %s, %s; %s.\n",
+			codeSpan(pv.name), pv.hash, codeSpan(pv.engine), pv.seeds, pv.date, riskText(r))
 	}
 	if _, err := w.Write(buf.Bytes()); err != nil {
 		return fmt.Errorf("reports: write markdown tables: %w", err)

@@ -167,7 +167,7 @@ func TestMarkdownContent(t *testing.T) {
 	if n := strings.Count(out, "\n### "); n+boolInt(strings.HasPrefix(out, "### ")) != len(r.Models) {
 		t.Errorf("Markdown has %d ### headings, want %d:\n%s", n, len(r.Models), out)
 	}
-	prov := "Spec `double-descent-demo`, hash `3f9a0c1de27b`, engine `e1`, 20 seeds, true risk (exact)."
+	prov := "Spec `double-descent-demo`, hash `3f9a0c1de27b`, engine `e1`, seeds 101–120, run 2025-06-30 14:05 UTC; true risk (exact)."
 	if n := strings.Count(out, prov); n != len(r.Models) {
 		t.Errorf("Markdown has %d provenance lines %q, want %d:\n%s", n, prov, len(r.Models), out)
 	}
@@ -241,6 +241,7 @@ func TestCSVRoundTrip(t *testing.T) {
 					"seeds": strconv.Itoa(p.Seeds), "heavy_tail": strconv.FormatBool(p.HeavyTail),
 					"errors": strconv.Itoa(len(p.Errors)), "risk_basis": r.RiskBasis,
 					"split_basis": r.SplitBasis, "spec_hash": r.Hash,
+					"spec_name": r.Name, "engine": r.Engine, "run_started": r.Created,
 				} {
 					if got := get(name); got != want {
 						t.Errorf("CSV %s %s=%v %s = %q, want %q", m.Label, r.Param, p.Value, name, got, want)
@@ -363,6 +364,64 @@ func BenchmarkTerminal(b *testing.B) {
 			for b.Loop() {
 				if err := Terminal(io.Discard, r); err != nil {
 					b.Fatal(err)
+				}
+			}
+		})
+	}
+}
+
+// TestProvenance checks the provenance fields: the seed range read from the
+// resolved spec, the date from the run, and the fallbacks when either is
+// missing. The CSV columns carry the same values, checked here on the rows.
+func TestProvenance(t *testing.T) {
+	tests := []struct {
+		name      string
+		specTOML  string
+		created   string
+		seeds     int
+		wantSeeds string
+		wantFirst string
+		wantLast  string
+		wantDate  string
+	}{
+		{"canonical seeds", "[seeds]\ncount = 20\nstart = 101\ntruth = 0\n", "2025-06-30T14:05:09Z", 20,
+			"seeds 101–120", "101", "120", "run 2025-06-30 14:05 UTC"},
+		{"start 0", "[seeds]\ncount = 3\nstart = 0\n", "2025-01-01T00:00:00+02:00", 3,
+			"seeds 0–2", "0", "2", "run 2024-12-31 22:00 UTC"},
+		{"no start key", "[seeds]\ncount = 3\n", "", 3, "3 seeds", "", "", "date unknown"},
+		{"no spec text", "", "yesterday", 5, "5 seeds", "", "", "run yesterday"},
+		{"spec text does not decode", "[seeds\n", "", 5, "5 seeds", "", "", "date unknown"},
+		{"negative start", "[seeds]\nstart = -1\n", "", 5, "5 seeds", "", "", "date unknown"},
+	}
+	for _, tt := range tests {
+		t.Run(tt.name, func(t *testing.T) {
+			r := synthetic()
+			r.SpecTOML, r.Created, r.Seeds = tt.specTOML, tt.created, tt.seeds
+			p := provenanceOf(r)
+			if p.seeds != tt.wantSeeds || p.first != tt.wantFirst || p.last != tt.wantLast || p.date != tt.wantDate {
+				t.Errorf("provenanceOf = seeds %q [%q, %q] date %q; want %q [%q, %q] %q",
+					p.seeds, p.first, p.last, p.date, tt.wantSeeds, tt.wantFirst, tt.wantLast, tt.wantDate)
+			}
+			var buf bytes.Buffer
+			if err := Terminal(&buf, r); err != nil {
+				t.Fatal(err)
+			}
+			footer := "spec double-descent-demo, hash 3f9a0c1de27b, engine e1, " + tt.wantSeeds + ", " + tt.wantDate + "\n"
+			if !strings.HasSuffix(buf.String(), "\n\n"+footer) {
+				t.Errorf("Terminal footer is not %q:\n%s", footer, buf.String())
+			}
+			buf.Reset()
+			if err := CSV(&buf, r); err != nil {
+				t.Fatal(err)
+			}
+			recs, err := csv.NewReader(&buf).ReadAll()
+			if err != nil {
+				t.Fatal(err)
+			}
+			n := len(csvHeader)
+			for _, rec := range recs[1:] {
+				if got := rec[n-3 : n]; got[0] != tt.wantFirst || got[1] != tt.wantLast || got[2] != tt.created {
+					t.Errorf("CSV seed_first, seed_last, run_started = %q, want %q, %q, %q", got, tt.wantFirst, tt.wantLast, tt.created)
 				}
 			}
 		})

@@ -15,7 +15,8 @@ import (
 // Terminal writes r as plain ASCII tables, one per model: a heading line
 // (label, family, grid knob, seeds, how risk and the bias²/variance split
 // were measured), a table with one row per grid point, and footnotes for
-// heavy-tailed points and failed cells.
+// heavy-tailed points and failed cells; a footer line gives the provenance
+// (spec name, short hash, engine, seeds, the run's date).
 //
 // Each mean is shown to the decimal place of its SE's second significant
 // digit. NaN prints as "–". The whole output is formatted before the first
@@ -25,7 +26,7 @@ func Terminal(w io.Writer, r *runner.Result) error {
 		return err
 	}
 	var buf bytes.Buffer
-	fmt.Fprintf(&buf, "%s (spec %s, engine %s)\n", r.Name, shortHash(r.Hash), r.Engine)
+	fmt.Fprintf(&buf, "%s\n", r.Name)
 	if r.About != "" {
 		fmt.Fprintf(&buf, "%s\n", r.About)
 	}
@@ -47,6 +48,7 @@ func Terminal(w io.Writer, r *runner.Result) error {
 			fmt.Fprintf(&buf, "%s\n", n)
 		}
 	}
+	fmt.Fprintf(&buf, "\n%s\n", provenanceOf(r).text())
 	if _, err := w.Write(buf.Bytes()); err != nil {
 		return fmt.Errorf("reports: write terminal tables: %w", err)
 	}
