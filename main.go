@@ -119,10 +119,12 @@ func inputStatus(err error) int {
 }
 
 func cmdRun(args []string, stdout, stderr io.Writer) int {
-	fs := newFlags("run", "run SPEC… [-j N] [-o DIR] [--fresh]", stderr)
+	fs := newFlags("run", "run SPEC… [-j N] [-o DIR] [--fresh] [--quiet] [-se-style S]", stderr)
 	jobs := fs.Int("j", runtime.NumCPU(), "fit `N` seeds at once")
 	out := fs.String("o", "results", "write result folders and the cache under `DIR`")
 	fresh := fs.Bool("fresh", false, "recompute every cell, ignoring the cache")
+	quiet := fs.Bool("quiet", false, "print only warnings and errors: no tables, progress or summary line")
+	seStyle := seStyleFlag(fs)
 	paths, err := parse(fs, args)
 	if err != nil {
 		return flagStatus(err)
@@ -136,6 +138,9 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "riskgrid run: -j %d: need at least one worker\n", *jobs)
 		return exitBadInput
 	}
+	if !checkSEStyle(*seStyle, "run", stderr) {
+		return exitBadInput
+	}
 	// Check every spec before fitting any, so a typo in the last one does
 	// not surface after an hour of work.
 	specs := make([]*spec.Spec, len(paths))
@@ -145,14 +150,21 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintln(stderr, err)
 			return exitBadInput
 		}
+		if *seStyle != "" {
+			// Recorded in spec_toml, so that report renders the same way;
+			// presentation keys do not enter the hash.
+			s.Tables.SEStyle = *seStyle
+		}
 		specs[i] = s
 	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	status := exitOK
 	for _, s := range specs {
-		opt := runner.Options{Workers: *jobs, CacheDir: filepath.Join(*out, ".cache"), Fresh: *fresh, Log: stderr}
+		meter := startMeter(stderr, s.Name, !*quiet && isTerminal(stderr))
+		opt := runner.Options{Workers: *jobs, CacheDir: filepath.Join(*out, ".cache"), Fresh: *fresh, Log: meter, Progress: meter.update}
 		ro, err := runner.Run(ctx, s, opt)
+		meter.finish()
 		if err != nil {
 			if ctx.Err() != nil {
 				fmt.Fprintf(stderr, "riskgrid: %s: interrupted; the seeds that finished are cached\n", s.Path)
@@ -167,12 +179,14 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			fmt.Fprintf(stderr, "riskgrid: %s: %v\n", s.Path, err)
 			return exitFailed
 		}
-		if err := reports.Terminal(stdout, res); err != nil {
-			fmt.Fprintf(stderr, "riskgrid: %v\n", err)
-			return exitFailed
+		if !*quiet {
+			if err := reports.Terminal(stdout, res); err != nil {
+				fmt.Fprintf(stderr, "riskgrid: %v\n", err)
+				return exitFailed
+			}
+			fmt.Fprintf(stderr, "riskgrid: %s: %d cells computed, %d from the cache, %.2fs with %d workers; wrote %s\n",
+				s.Name, tm.Computed, tm.Cached, tm.Seconds, tm.Workers, dir)
 		}
-		fmt.Fprintf(stderr, "riskgrid: %s: %d cells computed, %d from the cache, %.2fs with %d workers; wrote %s\n",
-			s.Name, tm.Computed, tm.Cached, tm.Seconds, tm.Workers, dir)
 		if n := failedCells(res); n > 0 {
 			fmt.Fprintf(stderr, "riskgrid: %s: %d cells failed; their errors are in %s\n",
 				s.Name, n, filepath.Join(dir, "result.json"))
@@ -260,11 +274,18 @@ func writeArtifacts(dir string, ro *runner.Output) error {
 	return writeTables(dir, ro.Result)
 }
 
-func writeTables(dir string, res *runner.Result) error {
+// writeTables writes the tables of res into dir, table.tex in the style its
+// spec records.
+func writeTables(dir string, res *runner.Result) error { return writeTablesAs(dir, res, "") }
+
+// writeTablesAs writes the tables of res into dir, table.tex with standard
+// errors in seStyle ("": the style res's spec records).
+func writeTablesAs(dir string, res *runner.Result, seStyle string) error {
+	latex := func(w io.Writer, r *runner.Result) error { return reports.LaTeX(w, r, seStyle) }
 	for _, t := range []struct {
 		name   string
 		render func(io.Writer, *runner.Result) error
-	}{{"table.md", reports.Markdown}, {"table.csv", reports.CSV}} {
+	}{{"table.md", reports.Markdown}, {"table.csv", reports.CSV}, {"table.tex", latex}} {
 		var sb strings.Builder
 		if err := t.render(&sb, res); err != nil {
 			return fmt.Errorf("%s: %w", t.name, err)
@@ -331,7 +352,8 @@ func bytesIEC(b int64) string {
 }
 
 func cmdReport(args []string, stdout, stderr io.Writer) int {
-	fs := newFlags("report", "report DIR", stderr)
+	fs := newFlags("report", "report DIR [-se-style S]", stderr)
+	seStyle := seStyleFlag(fs)
 	paths, err := parse(fs, args)
 	if err != nil {
 		return flagStatus(err)
@@ -341,6 +363,9 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		fs.Usage()
 		return exitBadInput
 	}
+	if !checkSEStyle(*seStyle, "report", stderr) {
+		return exitBadInput
+	}
 	dir := paths[0]
 	res, err := readResult(filepath.Join(dir, "result.json"))
 	if err != nil {
@@ -348,7 +373,7 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		return exitBadInput
 	}
 	res.Created = readCreated(filepath.Join(dir, "timing.json"))
-	if err := writeTables(dir, res); err != nil {
+	if err := writeTablesAs(dir, res, *seStyle); err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}
@@ -372,6 +397,23 @@ func readCreated(path string) string {
 		return ""
 	}
 	return tm.Created
+}
+
+// seStyleFlag declares -se-style, the standard-error style of table.tex.
+func seStyleFlag(fs *flag.FlagSet) *string {
+	return fs.String("se-style", "", "write standard errors in table.tex as `S`: "+
+		strings.Join(spec.SEStyles, " or ")+" (default: the spec's [tables] se_style, else "+spec.SEParentheses+")")
+}
+
+// checkSEStyle reports a -se-style value that is not a known style.
+func checkSEStyle(style, cmd string, stderr io.Writer) bool {
+	for _, s := range spec.SEStyles {
+		if style == "" || style == s {
+			return true
+		}
+	}
+	fmt.Fprintf(stderr, "riskgrid %s: -se-style %q (accepted: %s)\n", cmd, style, strings.Join(spec.SEStyles, ", "))
+	return false
 }
 
 func readResult(path string) (*runner.Result, error) {

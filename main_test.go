@@ -5,6 +5,7 @@ import (
 	"encoding/json"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 
@@ -58,7 +59,7 @@ func TestRunWritesArtifactsAndCaches(t *testing.T) {
 		t.Fatalf("result folders %v, want one tiny-<hash>", matches)
 	}
 	res := matches[0]
-	for _, f := range []string{"result.json", "sums.json", "timing.json", "table.md", "table.csv"} {
+	for _, f := range []string{"result.json", "sums.json", "timing.json", "table.md", "table.csv", "table.tex"} {
 		if _, err := os.Stat(filepath.Join(res, f)); err != nil {
 			t.Errorf("missing artifact: %v", err)
 		}
@@ -177,7 +178,7 @@ func TestUsage(t *testing.T) {
 }
 
 // tableFiles are the tables a run writes into its result folder.
-var tableFiles = []string{"table.md", "table.csv"}
+var tableFiles = []string{"table.md", "table.csv", "table.tex"}
 
 // TestTablesDeterministicAcrossWorkers checks that the tables written by a
 // run do not depend on -j, and that `report` re-renders them byte for byte.
@@ -227,6 +228,63 @@ func TestTablesDeterministicAcrossWorkers(t *testing.T) {
 		}
 		if !bytes.Contains(a, []byte(tm.Created[:10])) {
 			t.Errorf("%s does not carry the run's date %s:\n%s", f, tm.Created[:10], a)
+		}
+	}
+}
+
+// TestSEStyle checks how table.tex gets its standard-error style: from the
+// spec's [tables] se_style, overridden by -se-style on run (recorded in
+// spec_toml, so report renders the same way) and on report; the style does
+// not change the hash, so every run lands in the same folder and is cached.
+func TestSEStyle(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "out")
+	plain := writeSpec(t, dir, "tiny.toml", tinySpec)
+	pm := writeSpec(t, dir, "tiny-pm.toml", tinySpec+"[tables]\nse_style = \"plus-minus\"\n")
+	tex := func() string {
+		t.Helper()
+		m, _ := filepath.Glob(filepath.Join(out, "tiny-*", "table.tex"))
+		if len(m) != 1 {
+			t.Fatalf("table.tex files %v, want one (the style must not change the hash)", m)
+		}
+		b, err := os.ReadFile(m[0])
+		if err != nil {
+			t.Fatal(err)
+		}
+		return string(b)
+	}
+	isPM := func(s string) bool { return strings.Contains(s, ` \pm `) }
+	isParen := func(s string) bool { return regexp.MustCompile(`\$[0-9.]+\\ \([0-9.]+\)\$`).MatchString(s) }
+	for _, c := range []struct {
+		name string
+		args []string
+		pm   bool
+	}{
+		{"default", []string{"run", plain}, false},
+		{"spec plus-minus", []string{"run", pm}, true},
+		{"flag over spec", []string{"run", pm, "-se-style", "parentheses"}, false},
+		{"report keeps the run's choice", []string{"report"}, false},
+		{"flag on run", []string{"run", plain, "-se-style", "plus-minus"}, true},
+		{"report keeps the flag's choice", []string{"report"}, true},
+		{"flag on report", []string{"report", "-se-style", "parentheses"}, false},
+	} {
+		args := c.args
+		if args[0] == "report" {
+			m, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
+			args = append(args, m...)
+		} else {
+			args = append(args, "-o", out, "--quiet")
+		}
+		if status, _, stderr := runCLI(args...); status != exitOK {
+			t.Fatalf("%s: riskgrid %v: status %d, stderr %s", c.name, args, status, stderr)
+		}
+		if s := tex(); isPM(s) != c.pm || isParen(s) == c.pm {
+			t.Errorf("%s: table.tex plus-minus = %v, parentheses = %v; want plus-minus %v:\n%s", c.name, isPM(s), isParen(s), c.pm, s)
+		}
+	}
+	for _, args := range [][]string{{"run", plain, "-se-style", "brackets"}, {"report", out, "-se-style", "pm"}} {
+		if status, _, stderr := runCLI(args...); status != exitBadInput || !strings.Contains(stderr, "accepted: parentheses, plus-minus") {
+			t.Errorf("riskgrid %v: status %d, stderr %q; want 2 naming the accepted styles", args, status, stderr)
 		}
 	}
 }

@@ -21,8 +21,9 @@ import (
 //
 // Numbers are rounded exactly as in Terminal (see measure): risk, train,
 // gap, bias² and variance carry their standard error, as 1.234\ (0.012)
-// under spec.SEParentheses or 1.234 \pm 0.012 under spec.SEPlusMinus ("" is
-// the default, parentheses); the median, df and ‖b‖ are shown alone at the
+// under spec.SEParentheses or 1.234 \pm 0.012 under spec.SEPlusMinus; ""
+// takes the style recorded in the resolved spec ([tables] se_style in
+// r.SpecTOML), else parentheses. The median, df and ‖b‖ are shown alone at the
 // resolution of their own SE. To keep a table near the width of a page the
 // noise σ², the same at every grid value, is stated in the caption, and the
 // sum bias² + variance + noise (a check of the split, in the other tables)
@@ -39,6 +40,9 @@ func LaTeX(w io.Writer, r *runner.Result, style string) error {
 	}
 	if style == "" {
 		style = spec.SEParentheses
+		if v, ok := readRecorded(r.SpecTOML); ok && v.Tables.SEStyle != "" {
+			style = v.Tables.SEStyle
+		}
 	}
 	if !contains(spec.SEStyles, style) {
 		return fmt.Errorf("reports: standard-error style %q (known: %s)", style, strings.Join(spec.SEStyles, ", "))

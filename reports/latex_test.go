@@ -251,7 +251,23 @@ func TestLaTeXStyles(t *testing.T) {
 			t.Errorf("unbalanced braces or $:\n%s", out)
 		}
 	}
+	// "" takes the style the resolved spec records; an explicit one wins.
+	r := synthetic()
+	r.SpecTOML += "\n[tables]\nse_style = \"plus-minus\"\n"
 	var buf bytes.Buffer
+	if err := LaTeX(&buf, r, ""); err != nil || buf.String() != pm {
+		t.Errorf("LaTeX(\"\") with se_style = \"plus-minus\" recorded: err %v, output differs from the plus-minus style", err)
+	}
+	buf.Reset()
+	if err := LaTeX(&buf, r, spec.SEParentheses); err != nil || buf.String() != paren {
+		t.Errorf("LaTeX(parentheses) with plus-minus recorded: err %v, output differs from the parentheses style", err)
+	}
+	r.SpecTOML += "\n[tables]\nse_style = \"brackets\"\n" // a repeated table: does not decode
+	buf.Reset()
+	if err := LaTeX(&buf, r, ""); err != nil || !strings.Contains(buf.String(), `$1.812\ (0.041)$`) {
+		t.Errorf("LaTeX(\"\") with an undecodable spec_toml: err %v, want the default style:\n%s", err, buf.String())
+	}
+	buf.Reset()
 	if err := LaTeX(&buf, synthetic(), "brackets"); err == nil || !strings.Contains(err.Error(), "parentheses, plus-minus") || buf.Len() != 0 {
 		t.Errorf("LaTeX(style brackets) = %v, wrote %d bytes; want an error naming the known styles and no output", err, buf.Len())
 	}

@@ -62,19 +62,33 @@ func runDate(created string) string {
 	return "run " + t.UTC().Format("2006-01-02 15:04") + " UTC"
 }
 
-// seedStart reads seeds.start from the resolved spec in result.json. Only
-// that key is decoded, so a spec_toml written by another version of the
-// schema still yields it; ok is false when it is absent or does not decode.
-func seedStart(specTOML string) (start uint64, ok bool) {
+// recorded holds the keys the tables read from the resolved spec in
+// result.json (spec_toml). Only these keys are decoded, so a spec_toml
+// written by another version of the schema still yields them.
+type recorded struct {
+	Seeds struct {
+		Start *int64 `toml:"start"`
+	} `toml:"seeds"`
+	Tables struct {
+		SEStyle string `toml:"se_style"`
+	} `toml:"tables"`
+}
+
+// readRecorded decodes specTOML; ok is false when it is empty or does not
+// decode.
+func readRecorded(specTOML string) (v recorded, ok bool) {
 	if specTOML == "" {
-		return 0, false
+		return v, false
 	}
-	var v struct {
-		Seeds struct {
-			Start *int64 `toml:"start"`
-		} `toml:"seeds"`
-	}
-	if _, err := toml.Decode(specTOML, &v); err != nil || v.Seeds.Start == nil || *v.Seeds.Start < 0 {
+	_, err := toml.Decode(specTOML, &v)
+	return v, err == nil
+}
+
+// seedStart reads seeds.start from the resolved spec; ok is false when it
+// is absent or does not decode.
+func seedStart(specTOML string) (start uint64, ok bool) {
+	v, ok := readRecorded(specTOML)
+	if !ok || v.Seeds.Start == nil || *v.Seeds.Start < 0 {
 		return 0, false
 	}
 	return uint64(*v.Seeds.Start), true
