@@ -1,6 +1,7 @@
 package models_test
 
 import (
+	"errors"
 	"fmt"
 
 	"gonum.org/v1/gonum/mat"
@@ -50,11 +51,12 @@ func ExampleRidge_Path() {
 func ExampleNew() {
 	f, err := models.New(spec.Model{Family: spec.FamilyRidge, Lambda: 0.1, Intercept: true})
 	fmt.Printf("%T %+v %v\n", f, f, err)
+	// The error lists the registered families; it wraps ErrFamily.
 	_, err = models.New(spec.Model{Family: "lasso"})
-	fmt.Println(err)
+	fmt.Println(errors.Is(err, models.ErrFamily))
 	// Output:
 	// *models.Ridge &{Lambda:0.1 Intercept:true} <nil>
-	// models: unknown model family: "lasso" (known: least-squares, ridge, gradient-descent)
+	// true
 }
 
 // Leave-one-out error of the mean (intercept only in effect: λ huge) on

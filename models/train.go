@@ -13,7 +13,9 @@ import (
 //   - the sample with the intercept eliminated (see design), per intercept
 //     setting, for the features knob;
 //   - the Gram matrices X_p X_pᵀ of the features path past p = n (an m×m
-//     matrix per grid value: 8·m² bytes each).
+//     matrix per grid value: 8·m² bytes each);
+//   - the squared Euclidean distances among the training rows and from the
+//     test rows to them, for kernel ridge and k-NN (8·n·(n + m) bytes).
 //
 // The cache lives as long as the Train; a Train is not safe for concurrent
 // use (the runner gives each seed its own).
@@ -30,6 +32,7 @@ type Train struct {
 	seed, modelSeed uint64
 
 	designs map[designKey]*design
+	dists   *distances // squared distances, shared by kernel ridge and k-NN
 }
 
 type designKey struct {
