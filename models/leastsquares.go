@@ -124,12 +124,24 @@ func (w *solver) factorQR(d *design, k int) {
 	zg := blas64.General{Rows: m, Cols: 1, Stride: 1, Data: z}
 	q := []float64{0}
 	lapack64.Geqrf(ag, tau, q, -1)
-	lw := int(q[0])
-	lapack64.Ormqr(blas.Left, blas.Trans, ag, tau, zg, q, -1)
-	lw = max(lw, int(q[0]), 1)
+	lw := max(int(q[0]), 1)
 	work := grow(&w.work, lw)
 	lapack64.Geqrf(ag, tau, work, lw)
-	lapack64.Ormqr(blas.Left, blas.Trans, ag, tau, zg, work, lw)
+	applyQ(blas.Trans, ag, tau, zg, work)
+}
+
+// applyQ overwrites the single column c by Qᵀc (trans) or Qc, Q the
+// product of the Householder reflectors of a Geqrf factor, one reflector
+// at a time: Ormqr with a work length of 1, which LAPACK defines to take
+// the unblocked route (dorm2r). The blocked route of gonum v0.17.0's
+// Dormqr (a triangular factor from Dlarft, applied by Dlarfb) is not
+// orthogonal when a reflector is the identity (tau = 0, an exactly zero
+// column: relu features that vanish on every training point) and the
+// reflectors have trailing zeros: it changed ‖Qᵀy‖ in the third digit
+// (TestLeastSquaresZeroColumns). For one column the blocked route saves
+// nothing: both cost 4·m·k flops.
+func applyQ(trans blas.Transpose, a blas64.General, tau []float64, c blas64.General, work []float64) {
+	lapack64.Ormqr(blas.Left, trans, a, tau, c, work[:1], 1)
 }
 
 // qrFit solves for the first p columns from the QR of the first k ≥ p.
@@ -178,9 +190,7 @@ func (w *solver) qrTranspose(d *design, p int, f *Fit) {
 	bg := blas64.General{Rows: p, Cols: 1, Stride: 1, Data: b}
 	q := []float64{0}
 	lapack64.Geqrf(tg, tau, q, -1)
-	lw := int(q[0])
-	lapack64.Ormqr(blas.Left, blas.NoTrans, tg, tau, bg, q, -1)
-	lw = max(lw, int(q[0]), 3*m, 1)
+	lw := max(int(q[0]), 3*m, 1)
 	work := grow(&w.work, lw)
 	lapack64.Geqrf(tg, tau, work, lw)
 	r := blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: m, Stride: m, Data: t}
@@ -191,7 +201,7 @@ func (w *solver) qrTranspose(d *design, p int, f *Fit) {
 	}
 	copy(b, d.y)
 	blas64.Trsv(blas.Trans, r, blas64.Vector{N: m, Inc: 1, Data: b[:m]})
-	lapack64.Ormqr(blas.Left, blas.NoTrans, tg, tau, bg, work, lw)
+	applyQ(blas.NoTrans, tg, tau, bg, work)
 	d.finish(f, b, d.rss(b, grow(&w.res, m)), float64(m), 1/rcond, "qr-transpose")
 }
 

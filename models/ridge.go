@@ -112,7 +112,7 @@ func (r *Ridge) Path(t *Train, knob string, values []float64) []Fit {
 		if r.Lambda == 0 {
 			w.leastSquares(d, ps, fits)
 		} else {
-			w.ridgeFeatures(d, ps, r.Lambda, fits)
+			w.ridgeFeatures(d, ps, func(int) float64 { return r.Lambda }, fits)
 		}
 	}
 	if knob == spec.ParamFeatures {
@@ -123,8 +123,9 @@ func (r *Ridge) Path(t *Train, knob string, values []float64) []Fit {
 	return fits
 }
 
-// ridgeFeatures fits ridge at penalty λ > 0 on the first ps[i] columns.
-func (w *solver) ridgeFeatures(d *design, ps []int, lambda float64, fits []Fit) {
+// ridgeFeatures fits ridge at penalty lambda(p) > 0 on the first ps[i]
+// columns (a constant for Ridge; random features scale it with p).
+func (w *solver) ridgeFeatures(d *design, ps []int, lambda func(p int) float64, fits []Fit) {
 	order := ascending(ps)
 	if d.m == 0 {
 		for _, i := range order {
@@ -133,7 +134,6 @@ func (w *solver) ridgeFeatures(d *design, ps []int, lambda float64, fits []Fit) 
 		return
 	}
 	m := d.m
-	nl := float64(d.n) * lambda
 	k := 0
 	for _, i := range order {
 		if ps[i] <= m {
@@ -150,6 +150,8 @@ func (w *solver) ridgeFeatures(d *design, ps []int, lambda float64, fits []Fit) 
 	var gr *gram
 	for _, i := range order {
 		p, f := ps[i], &fits[i]
+		lambda := lambda(p)
+		nl := float64(d.n) * lambda
 		if p <= m {
 			w.primalRidge(d, k, p, lambda, nl, f)
 			continue

@@ -89,7 +89,7 @@ var Families = map[string]Schema{
 		Nums: []Num{
 			{Key: "features", Integer: true, OK: positiveInt, Accepted: "an integer ≥ 1, the number N of random features"},
 			penalty,
-			{Key: "scale", OK: positive, Accepted: "a number > 0, the scale of the random weights (relu: w ~ N(0, scale²/d I); fourier: w ~ N(0, I/scale²))", Default: 1, HasDefault: true},
+			{Key: "scale", OK: positive, Accepted: "a number > 0, the scale of the random weights (relu: (w, offset) ~ N(0, scale²/(d+1) I); fourier: w ~ N(0, I/scale²))", Default: 1, HasDefault: true},
 		},
 		Choices: []Choice{{Key: "activation", Values: []string{"relu", "fourier"}, Default: "relu"}}},
 	FamilyPolynomial: {Knobs: []string{ParamDegree, ParamLambda, ParamNTrain},
