@@ -7,7 +7,8 @@ import (
 )
 
 // Canonical returns the resolved spec as TOML in a fixed key order, with
-// every default written out and the grid as explicit values. Floats are
+// every default written out and the grid (and its outer axis, if any) as
+// explicit values. Floats are
 // printed in the shortest form that reads back to the same float64, so
 // Parse(Canonical()) gives back an equal Spec (Path and DataHash aside,
 // which are not part of the text; the data hash is shown as a comment).
@@ -22,7 +23,7 @@ func (s *Spec) Canonical() string {
 	D := s.Data
 	b.WriteString("\n[data]\n")
 	kv("source", tomlString(D.Source))
-	if s.Grid.Param != ParamNTrain {
+	if !s.Grid.Sets(ParamNTrain) {
 		kv("n_train", strconv.Itoa(D.NTrain))
 	}
 	switch D.Source {
@@ -56,7 +57,7 @@ func (s *Spec) Canonical() string {
 		b.WriteString("\n[[model]]\n")
 		kv("family", tomlString(m.Family))
 		kv("label", tomlString(m.Label))
-		nums, choices := m.written(s.Grid.Param)
+		nums, choices := m.written(s.Grid.knobs()...)
 		for _, n := range nums {
 			kv(n.Key, fmtFloat(m.Param(n.Key)))
 		}
@@ -71,6 +72,11 @@ func (s *Spec) Canonical() string {
 	b.WriteString("\n[grid]\n")
 	kv("param", tomlString(s.Grid.Param))
 	kv("values", floatArray(s.Grid.Values))
+	if o := s.Grid.Outer; o != nil {
+		b.WriteString("\n[grid.outer]\n")
+		kv("param", tomlString(o.Param))
+		kv("values", floatArray(o.Values))
+	}
 
 	b.WriteString("\n[seeds]\n")
 	kv("count", strconv.Itoa(s.Seeds.Count))

@@ -117,8 +117,11 @@ func (d *decoder) checkCSV(s *Spec) error {
 	pool := rows - test
 	if D.Sampling == SamplingSubsample && D.NTrain > pool {
 		key := "data.n_train"
-		if s.Grid.Param == ParamNTrain {
+		switch {
+		case s.Grid.Param == ParamNTrain:
 			key = gridKey(d.gridT, float64(D.NTrain))
+		case s.Grid.Sets(ParamNTrain):
+			key = gridKey(d.outerT, float64(D.NTrain))
 		}
 		return d.errf(key, "n_train = %d exceeds the %d training rows of %s (%d rows, %d held out) (accepted: n_train ≤ %d, or sampling = %q)",
 			D.NTrain, pool, path, rows, test, pool, SamplingBootstrap)

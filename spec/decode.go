@@ -11,9 +11,10 @@ import (
 // decoder walks the generic TOML tree (map[string]any) with the line map of
 // locate, so that every complaint can name its line.
 type decoder struct {
-	file  string
-	lines map[string]int
-	gridT table // the [grid] table, for checks made later in Load
+	file   string
+	lines  map[string]int
+	gridT  table // the [grid] table, for checks made later in Load
+	outerT table // the [grid.outer] table, idem
 }
 
 // table is one TOML table with its dotted path.

@@ -91,7 +91,7 @@ func TestParseErrors(t *testing.T) {
 		{"unknown data", pieces{data: gen("dimension = 3 #<")}, "data.dimension", "unknown key (known: source, n_train, n_test, dim,"},
 		{"unknown model", pieces{model: ls + ridge + "lamda = 3 #<\n"}, "model[2].lamda", "unknown key (known: family, label, lambda, intercept)"},
 		{"unknown spectrum", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 50\nnoise = { sd = 0.5 }\n[data.spectrum]\nkind = \"power-law\"\nexponant = 1 #<\n"}, "data.spectrum.exponant", "unknown key (known: kind, exponent, spikes, high, low, values)"},
-		{"unknown grid", pieces{grid: gridOK + "step = 2 #<\n"}, "grid.step", "unknown key (known: param, values, from, to, points, spacing, include)"},
+		{"unknown grid", pieces{grid: gridOK + "step = 2 #<\n"}, "grid.step", "unknown key (known: param, values, from, to, points, spacing, include, outer)"},
 		{"unknown seeds", pieces{seeds: seedsOK + "first = 2 #<\n"}, "seeds.first", "unknown key (known: count, start, truth, models)"},
 
 		// Keys that do not belong to the chosen kind.

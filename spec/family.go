@@ -196,11 +196,11 @@ func (m Model) Param(key string) float64 {
 }
 
 // written returns the parameters of m that the spec holds (all but the
-// grid param), in schema order, for the canonical form and the hashes.
-func (m Model) written(param string) (nums []Num, choices []Choice) {
+// grid params), in schema order, for the canonical form and the hashes.
+func (m Model) written(params ...string) (nums []Num, choices []Choice) {
 	f := Families[m.Family]
 	for _, n := range f.Nums {
-		if n.Key != param {
+		if !slices.Contains(params, n.Key) {
 			nums = append(nums, n)
 		}
 	}

@@ -74,10 +74,14 @@ func (s *Spec) hashStream() *stream {
 	w.int("models", len(s.Models))
 	for _, m := range s.Models {
 		w.str("model.label", m.Label)
-		modelLines(w, m, s.Grid.Param)
+		modelLines(w, m, s.Grid.knobs()...)
 	}
 	w.str("grid.param", s.Grid.Param)
 	w.f64s("grid.values", s.Grid.Values)
+	if o := s.Grid.Outer; o != nil { // absent from one-axis streams: their hashes stay as they were
+		w.str("grid.outer.param", o.Param)
+		w.f64s("grid.outer.values", o.Values)
+	}
 	w.int("seeds.count", s.Seeds.Count)
 	w.u64("seeds.start", s.Seeds.Start)
 	w.u64("seeds.truth", s.Seeds.Truth)
@@ -89,7 +93,8 @@ func (s *Spec) hashStream() *stream {
 
 // DataKey is the cache key of the data: what defines the data distribution
 // and its random streams, i.e. the resolved [data] (n_train written "grid"
-// when the grid param is n_train, since the draws are nested), DataHash,
+// when the grid param is n_train, since the draws are nested; "outer" when
+// the outer param is, since each slice draws its own), DataHash,
 // seeds.truth and Engine. Seed count and start, grid values and models do
 // not enter, so adding seeds or grid values keeps it.
 func (s *Spec) DataKey() string { return s.dataStream().sum() }
@@ -111,9 +116,12 @@ func (s *Spec) dataStream() *stream {
 func (s *Spec) dataLines(w *stream, nested bool) {
 	D := s.Data
 	w.str("data.source", D.Source)
-	if nested && s.Grid.Param == ParamNTrain {
+	switch {
+	case nested && s.Grid.Param == ParamNTrain:
 		w.str("data.n_train", "grid")
-	} else {
+	case nested && s.Grid.Sets(ParamNTrain):
+		w.str("data.n_train", "outer") // each slice (At) has its own
+	default:
 		w.int("data.n_train", D.NTrain)
 	}
 	w.int("data.n_test", D.NTest)
@@ -161,9 +169,11 @@ func modelStream(m Model, param string) *stream {
 	return w
 }
 
-func modelLines(w *stream, m Model, param string) {
+// modelLines writes the family and the parameters of m that are not one of
+// the grid params.
+func modelLines(w *stream, m Model, params ...string) {
 	w.str("model.family", m.Family)
-	nums, choices := m.written(param)
+	nums, choices := m.written(params...)
 	for _, n := range nums {
 		w.f64("model."+n.Key, m.Param(n.Key))
 	}

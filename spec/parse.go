@@ -25,7 +25,8 @@ var (
 	commonData = []string{"source", "n_train", "n_test"}
 	genData    = []string{"dim", "spectrum", "signal", "noise", "truth"}
 	csvData    = []string{"file", "target", "features", "test_fraction", "sampling"}
-	gridKeys   = []string{"param", "values", "from", "to", "points", "spacing", "include"}
+	gridKeys   = []string{"param", "values", "from", "to", "points", "spacing", "include", "outer"}
+	outerKeys  = []string{"param", "values", "from", "to", "points", "spacing", "include"}
 	seedKeys   = []string{"count", "start", "truth", "models"}
 	tablesKeys = []string{"se_style"}
 
@@ -147,6 +148,9 @@ func (d *decoder) spec(root table) (*Spec, error) {
 	if s.Grid.Param, err = d.choice(gt, "param", Params, ""); err != nil {
 		return nil, err
 	}
+	if s.Grid.Outer, err = d.outerParam(gt, s.Grid.Param); err != nil {
+		return nil, err
+	}
 
 	dt, ok, err := d.sub(root, "data")
 	if err != nil {
@@ -204,9 +208,9 @@ func (d *decoder) data(t table, s *Spec, f *facts) error {
 	}
 	f.nTrain = ok
 	switch {
-	case ok && s.Grid.Param == ParamNTrain:
-		return d.errf(t.key("n_train"), "the grid param is n_train, which sets the training sizes (accepted: leave n_train out of [data])")
-	case !ok && s.Grid.Param != ParamNTrain:
+	case ok && s.Grid.Sets(ParamNTrain):
+		return d.errf(t.key("n_train"), "the %s is n_train, which sets the training sizes (accepted: leave n_train out of [data])", knobName(s.Grid, ParamNTrain))
+	case !ok && !s.Grid.Sets(ParamNTrain):
 		return d.missing(t.key("n_train"), "an integer ≥ 1, the training-set size")
 	}
 	D.NTrain = int(n)
@@ -524,6 +528,14 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 			return d.errf(t.key("family"), "%q has no knob %s, the grid param (accepted: a family whose knobs include %s; %q takes %s)",
 				M.Family, param, param, M.Family, strings.Join(fam.Knobs, ", "))
 		}
+		if o := s.Grid.Outer; o != nil && o.Param != ParamNTrain && !fam.hasNum(o.Param) {
+			own := "the family has no parameter of its own"
+			if k := fam.numKeys(); k != nil {
+				own = "or one of the family's parameters: " + quoteList(k)
+			}
+			return d.errf(t.key("family"), "%q has no parameter %s for the outer grid param to fix at each of its values (accepted: outer param %q, %s; or %s as the inner grid param)",
+				M.Family, o.Param, ParamNTrain, own, o.Param)
+		}
 		label, ok, err := d.str(t, "label")
 		if err != nil {
 			return err
@@ -546,10 +558,11 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 			if n.Key == "lambda" {
 				f.lambda[i] = ok
 			}
+			knob := s.Grid.Sets(n.Key) // the grid param or the outer one
 			switch {
-			case ok && n.Key == param:
-				return d.errf(t.key(n.Key), "the grid param is %s, which sets it (accepted: leave %s out of [[model]])", param, n.Key)
-			case n.Key == param:
+			case ok && knob:
+				return d.errf(t.key(n.Key), "the %s is %s, which sets it (accepted: leave %s out of [[model]])", knobName(s.Grid, n.Key), n.Key, n.Key)
+			case knob:
 				continue
 			case !ok && !n.HasDefault:
 				return d.missing(t.key(n.Key), n.Accepted)
@@ -584,11 +597,12 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 
 // DefaultLabel is the label a model gets when none is written: the family,
 // its choices ("relu"), then "key=value" for each numeric parameter that is
-// not the grid param and differs from its default ("λ=0.1" for a penalty),
+// not a grid param (params: the grid param and the outer one, if any) and
+// differs from its default ("λ=0.1" for a penalty),
 // then "(intercept)" when an intercept is fitted.
-func DefaultLabel(m Model, param string) string {
+func DefaultLabel(m Model, params ...string) string {
 	l := m.Family
-	nums, choices := m.written(param)
+	nums, choices := m.written(params...)
 	for _, c := range choices {
 		l += " " + m.Options[c.Key]
 	}
@@ -608,13 +622,21 @@ func DefaultLabel(m Model, param string) string {
 	return l
 }
 
+// knobName says which axis of g has param: "grid param" or "outer grid param".
+func knobName(g Grid, param string) string {
+	if g.Param == param {
+		return "grid param"
+	}
+	return "outer grid param"
+}
+
 func (d *decoder) labels(s *Spec) error {
 	used := map[string]int{}
 	for i := range s.Models {
 		M := &s.Models[i]
 		key := "model[" + strconv.Itoa(i+1) + "]"
 		if M.Label == "" {
-			M.Label = DefaultLabel(*M, s.Grid.Param)
+			M.Label = DefaultLabel(*M, s.Grid.knobs()...)
 		} else {
 			key += ".label"
 		}

@@ -186,6 +186,21 @@ var roundTripSpecs = map[string]string{
 		model: "[[model]]\nfamily = \"two-layer-net\"\nsteps = 10\nstep_size = 0.1\ninit_scale = 0.5\n",
 		grid:  "[grid]\nparam = \"width\"\nfrom = 1\nto = 100\npoints = 4\nspacing = \"log\"\n",
 	}.src(),
+	"outer n_train": pieces{
+		data:  "[data]\nsource = \"linear-gaussian\"\ndim = 50\nnoise = { sd = 0.5 }\n",
+		model: "[[model]]\nfamily = \"least-squares\"\n[[model]]\nfamily = \"ridge\"\nlambda = 0.01\n",
+		grid:  "[grid]\nparam = \"features\"\nfrom = 5\nto = 50\npoints = 4\nspacing = \"log\"\n[grid.outer]\nparam = \"n_train\"\nfrom = 10\nto = 40\npoints = 3\nspacing = \"log\"\ninclude = [25]\n",
+	}.src(),
+	"outer lambda, inline": pieces{
+		data:  "[data]\nsource = \"linear-gaussian\"\ndim = 50\nnoise = { sd = 0.5 }\n",
+		model: "[[model]]\nfamily = \"ridge\"\n[[model]]\nfamily = \"ridge\"\nintercept = true\n",
+		grid:  "[grid]\nparam = \"n_train\"\nvalues = [10, 20]\nouter = { param = \"lambda\", from = 1e-4, to = 1, points = 5, spacing = \"log\", include = [0] }\n",
+	}.src(),
+	"csv, outer n_train, inner lambda": pieces{
+		data:  "[data]\nsource = \"csv\"\nfile = \"g.csv\"\ntarget = \"y\"\n",
+		model: "[[model]]\nfamily = \"ridge\"\n",
+		grid:  "[grid]\nparam = \"lambda\"\nvalues = [0.1, 1]\n[grid.outer]\nparam = \"n_train\"\nvalues = [30, 10]\n",
+	}.src(),
 }
 
 func TestCanonicalRoundTrip(t *testing.T) {

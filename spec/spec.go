@@ -41,7 +41,8 @@ type Data struct {
 	// SourceTeacher. Required.
 	Source string `toml:"source"`
 	// NTrain is the training-set size drawn for each seed. Required, > 0.
-	// When the grid param is "n_train" it is set to the largest grid value.
+	// When the grid param or the outer grid param is "n_train" it is not
+	// written and is set to the largest value of that axis.
 	NTrain int `toml:"n_train"`
 	// NTest is the number of fixed test inputs (generator) or the size of the
 	// held-out test set (csv, exclusive with TestFraction; see TestSize).
@@ -234,8 +235,8 @@ type Model struct {
 	// within a spec.
 	Label string `toml:"label"`
 	// Lambda is the ridge penalty λ ≥ 0 of (1/n)‖y − Xb‖² + λ‖b‖².
-	// Required for ridge unless the grid param is "lambda", in which case
-	// it must not be written and stays 0.
+	// Required for ridge unless the grid param or the outer grid param is
+	// "lambda", in which case it must not be written and stays 0.
 	Lambda float64 `toml:"lambda"`
 	// Intercept adds an unpenalised intercept. Default false.
 	Intercept bool `toml:"intercept"`
@@ -253,7 +254,8 @@ const (
 	ParamNTrain   = "n_train"  // the training-set size (nested samples)
 )
 
-// Grid is the capacity grid: one knob and its values.
+// Grid is the capacity grid: one knob and its values, optionally crossed
+// with a second, outer knob.
 type Grid struct {
 	// Param is the knob: one of Params; every model's family must accept
 	// it (Schema.Knobs).
@@ -272,6 +274,15 @@ type Grid struct {
 	Spacing string  `toml:"spacing"`
 	// Include adds values to a from/to grid (e.g. the threshold p = n).
 	Include []float64 `toml:"include"`
+	// Outer, when set ([grid.outer]), is a second axis with its own param
+	// and values, written like this one: the grid is then Values × Outer.Values,
+	// run as one one-axis grid per outer value (see At). The outer param
+	// differs from Param and is n_train (it sets data.n_train of each slice
+	// and is then not written in [data]) or a numeric parameter of every
+	// model's family (lambda, degree, …: it sets that parameter, which is
+	// then not written in [[model]]). Default nil: a one-axis grid.
+	// Outer.Outer is always nil.
+	Outer *Grid `toml:"outer"`
 }
 
 // Seeds sets the replications.
