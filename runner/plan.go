@@ -17,7 +17,19 @@ type Plan struct {
 }
 
 // Size sizes the run of s with the given number of workers.
+// A two-axis spec is run one slice at a time: its cells add up, its peak is
+// the largest slice's.
 func Size(s *spec.Spec, workers int) Plan {
+	if o := s.Grid.Outer; o != nil {
+		p := Plan{Seeds: s.Seeds.Count}
+		for _, v := range o.Values {
+			q := Size(s.At(v), workers)
+			p.Cells += q.Cells
+			p.Paths += q.Paths
+			p.PeakBytes = max(p.PeakBytes, q.PeakBytes)
+		}
+		return p
+	}
 	if workers <= 0 {
 		workers = 1
 	}

@@ -8,7 +8,7 @@ import (
 
 // Schema names the version of the result.json layout. Bump it on any change
 // a reader could notice.
-const Schema = "riskgrid.result/1"
+const Schema = "riskgrid.result/2"
 
 // Result is the artifact of one run: everything needed to re-render its
 // tables without refitting. It holds nothing that varies between two runs of
@@ -23,9 +23,11 @@ type Result struct {
 	About    string `json:"about,omitempty"`
 	Hash     string `json:"hash"`      // spec hash, hex SHA-256
 	SpecTOML string `json:"spec_toml"` // the resolved spec, canonical TOML
-	Param    string `json:"param"`     // grid knob
-	Seeds    int    `json:"seeds"`     // seeds requested
-	NTrain   int    `json:"n_train"`   // training-set size (largest, for an n_train grid)
+	Param    string `json:"param"`     // grid knob (the inner one of a two-axis grid)
+	// OuterParam is the outer knob of a two-axis grid, "" for one axis.
+	OuterParam string `json:"outer_param,omitempty"`
+	Seeds      int    `json:"seeds"`   // seeds requested
+	NTrain     int    `json:"n_train"` // training-set size (largest, for an n_train axis)
 
 	// RiskBasis says how Risk was measured: RiskExact or RiskTestSet.
 	RiskBasis string `json:"risk_basis"`
@@ -62,11 +64,16 @@ const (
 	SplitLumped     = "lumped"      // truth unknown: bias² column holds bias² + noise
 )
 
-// ModelResult is one model's curve over the grid.
+// ModelResult is one model's curve over the grid. A two-axis result holds
+// one curve per outer value and model: the outer values in order, within
+// each the models in spec order, each curve the one a one-axis run of that
+// slice (spec.At) gives.
 type ModelResult struct {
-	Label  string  `json:"label"`
-	Family string  `json:"family"`
-	Points []Point `json:"points"`
+	Label  string `json:"label"`
+	Family string `json:"family"`
+	// Outer is the outer knob's value of this curve; nil for one axis.
+	Outer  *float64 `json:"outer,omitempty"`
+	Points []Point  `json:"points"`
 }
 
 // Point is one grid value: estimates over the seeds that succeeded.

@@ -67,7 +67,12 @@ type Output struct {
 // many cells were computed and how many came from the cache. When ctx is
 // cancelled Run stops starting seeds, keeps in the cache every seed that
 // finished, and returns ctx's error.
+//
+// A two-axis spec is run one outer value at a time (see runOuter).
 func Run(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
+	if s.Grid.Outer != nil {
+		return runOuter(ctx, s, opt)
+	}
 	start := time.Now()
 	if opt.Workers <= 0 {
 		opt.Workers = runtime.NumCPU()

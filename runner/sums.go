@@ -7,7 +7,7 @@ import (
 )
 
 // SumsSchema names the version of the sums.json layout.
-const SumsSchema = "riskgrid.sums/1"
+const SumsSchema = "riskgrid.sums/2"
 
 // Sums holds, per grid point, the mergeable sufficient statistics a Result
 // is reduced from: per-seed values of the scalar metrics and, for the
@@ -24,16 +24,23 @@ type Sums struct {
 	DataKey    string      `json:"data_key"`    // shards must share it
 	SplitBasis string      `json:"split_basis"` // as Result.SplitBasis
 	Param      string      `json:"param"`
-	Weights    []float64   `json:"weights"`     // w_j of ⟨u, v⟩ = Σ w_j u_j v_j
-	ModelSeeds int         `json:"model_seeds"` // M, fits per seed of the randomized families
+	OuterParam string      `json:"outer_param,omitempty"` // as Result.OuterParam
+	Weights    []float64   `json:"weights"`               // w_j of ⟨u, v⟩ = Σ w_j u_j v_j
+	ModelSeeds int         `json:"model_seeds"`           // M, fits per seed of the randomized families
 	Models     []ModelSums `json:"models"`
 }
 
-// ModelSums is one model's sums over the grid.
+// ModelSums is one model's sums over the grid; a two-axis run has one per
+// outer value and model, as Result has curves.
 type ModelSums struct {
-	Label  string      `json:"label"`
-	Key    string      `json:"model_key"`
-	Points []PointSums `json:"points"`
+	Label string `json:"label"`
+	Key   string `json:"model_key"`
+	// Outer is the outer value and DataKey the data key of the slice, on a
+	// two-axis grid only (each slice has its own data key when n_train is
+	// the outer knob).
+	Outer   *float64    `json:"outer,omitempty"`
+	DataKey string      `json:"data_key,omitempty"`
+	Points  []PointSums `json:"points"`
 }
 
 // PointSums is one grid point: the lists are per seed, in seed order.
@@ -92,12 +99,12 @@ var ErrMerge = errors.New("runner: sums do not merge")
 // models and grid, with disjoint seeds.
 func (a *Sums) Merge(b *Sums) error {
 	if a.Schema != b.Schema || a.DataKey != b.DataKey || a.SplitBasis != b.SplitBasis || a.ModelSeeds != b.ModelSeeds ||
-		a.Param != b.Param || !slices.Equal(a.Weights, b.Weights) || len(a.Models) != len(b.Models) {
+		a.Param != b.Param || a.OuterParam != b.OuterParam || !slices.Equal(a.Weights, b.Weights) || len(a.Models) != len(b.Models) {
 		return fmt.Errorf("%w: different data, split or knob", ErrMerge)
 	}
 	for i := range a.Models {
 		ma, mb := &a.Models[i], &b.Models[i]
-		if ma.Key != mb.Key || len(ma.Points) != len(mb.Points) {
+		if ma.Key != mb.Key || ma.DataKey != mb.DataKey || !sameOuter(ma.Outer, mb.Outer) || len(ma.Points) != len(mb.Points) {
 			return fmt.Errorf("%w: model %q differs", ErrMerge, ma.Label)
 		}
 		for j := range ma.Points {
