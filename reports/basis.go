@@ -13,6 +13,9 @@ func check(r *runner.Result) error {
 	if r == nil {
 		panic("reports: nil Result")
 	}
+	if err := checkOuter(r); err != nil {
+		return err
+	}
 	switch r.RiskBasis {
 	case runner.RiskExact:
 	case runner.RiskTestSet, runner.RiskQuadrature, runner.RiskMonteCarlo:
@@ -68,8 +71,8 @@ func splitText(r *runner.Result) string {
 
 // heading is the line above a model's table.
 func heading(r *runner.Result, m *runner.ModelResult) string {
-	return fmt.Sprintf("%s [%s]: grid %s, %d seeds; %s; %s",
-		m.Label, m.Family, r.Param, r.Seeds, riskText(r), splitText(r))
+	return fmt.Sprintf("%s [%s]%s: grid %s, %d seeds; %s; %s",
+		m.Label, m.Family, atOuter(r, m), r.Param, r.Seeds, riskText(r), splitText(r))
 }
 
 // shortHash is the first 12 hex digits of the spec hash.

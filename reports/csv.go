@@ -24,7 +24,9 @@ var csvHeader = []string{
 }
 
 // CSV writes r as one tidy table (RFC 4180, encoding/csv): a header row,
-// then one row per model × grid point with the columns of csvHeader.
+// then one row per model × grid point with the columns of csvHeader; a
+// two-axis result has one row per model × outer value × grid point, with
+// outer_param and outer_value after value (see withOuter).
 // Numbers are in full precision (the shortest form that reads back to the
 // same float64); NaN and ±Inf are empty cells. errors is the number of
 // failed cells, heavy_tail is true or false, risk_basis and split_basis are
@@ -47,14 +49,14 @@ func CSV(w io.Writer, r *runner.Result) error {
 	}
 	var buf bytes.Buffer
 	cw := csv.NewWriter(&buf)
-	if err := cw.Write(csvHeader); err != nil {
+	if err := cw.Write(withOuter(r, csvHeader, "outer_param", "outer_value")); err != nil {
 		return fmt.Errorf("reports: csv header: %w", err)
 	}
 	pv := provenanceOf(r)
 	for i := range r.Models {
 		m := &r.Models[i]
 		for j := range m.Points {
-			if err := cw.Write(csvRow(r, pv, m, &m.Points[j])); err != nil {
+			if err := cw.Write(withOuter(r, csvRow(r, pv, m, &m.Points[j]), r.OuterParam, outerValue(m))); err != nil {
 				return fmt.Errorf("reports: csv row %s %s=%s: %w", m.Label, r.Param, knob(m.Points[j].Value), err)
 			}
 		}

@@ -33,7 +33,7 @@ func Markdown(w io.Writer, r *runner.Result) error {
 		if i > 0 {
 			buf.WriteString("\n")
 		}
-		fmt.Fprintf(&buf, "### %s\n\n", m.Label)
+		fmt.Fprintf(&buf, "### %s%s\n\n", m.Label, atOuter(r, m))
 		fmt.Fprintf(&buf, "Family `%s`, grid `%s`, %d seeds; %s; %s.\n\n",
 			m.Family, r.Param, r.Seeds, riskText(r), splitText(r))
 		t := tablewriter.NewTable(&buf,

@@ -45,6 +45,7 @@ func TestGolden(t *testing.T) {
 	}{
 		{"", synthetic},
 		{"_lumped", lumpedResult},
+		{"_outer", twoAxisResult},
 	}
 	for _, rd := range renderers {
 		for _, res := range results {
