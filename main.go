@@ -20,6 +20,7 @@ import (
 	"os/signal"
 	"path/filepath"
 	"runtime"
+	"strconv"
 	"strings"
 	"syscall"
 
@@ -318,21 +319,35 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 	plan := runner.Size(s, *jobs)
 	fmt.Fprintf(stdout, "# %s: valid\n", s.Path)
 	fmt.Fprintf(stdout, "# hash   %s\n", s.Hash())
-	if c := len(s.Models) * len(s.Grid.Values) * plan.Seeds; c != plan.Cells {
-		fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds, × %d model seeds for the randomized families), %d path fits\n",
-			plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, s.Seeds.Models, plan.Paths)
+	grid, values := fmt.Sprintf("%d grid values", len(s.Grid.Values)), len(s.Grid.Values)
+	if o := s.Grid.Outer; o != nil {
+		grid = fmt.Sprintf("%d %s × %d %s values", len(s.Grid.Values), s.Grid.Param, len(o.Values), o.Param)
+		values *= len(o.Values)
+	}
+	if c := len(s.Models) * values * plan.Seeds; c != plan.Cells {
+		fmt.Fprintf(stdout, "# cells  %d (%d models × %s × %d seeds, × %d model seeds for the randomized families), %d path fits\n",
+			plan.Cells, len(s.Models), grid, plan.Seeds, s.Seeds.Models, plan.Paths)
 	} else {
-		fmt.Fprintf(stdout, "# cells  %d (%d models × %d grid values × %d seeds), %d path fits\n",
-			plan.Cells, len(s.Models), len(s.Grid.Values), plan.Seeds, plan.Paths)
+		fmt.Fprintf(stdout, "# cells  %d (%d models × %s × %d seeds), %d path fits\n",
+			plan.Cells, len(s.Models), grid, plan.Seeds, plan.Paths)
 	}
 	fmt.Fprintf(stdout, "# memory about %s at peak with %d workers (estimate)\n", bytesIEC(plan.PeakBytes), *jobs)
 	fmt.Fprintf(stdout, "# resolved spec:\n%s", s.Canonical())
 	if *inputs {
 		fmt.Fprintf(stdout, "\n# inputs of the spec hash %s:\n%s", s.Hash(), s.HashInputs())
-		fmt.Fprintf(stdout, "\n# inputs of the data key %s (seeds' streams and cache entries):\n%s", s.DataKey(), s.DataKeyInputs())
-		for _, m := range s.Models {
-			fmt.Fprintf(stdout, "\n# inputs of the model key of %q %s:\n%s", m.Label,
-				spec.ModelKey(m, s.Grid.Param), spec.ModelKeyInputs(m, s.Grid.Param))
+		printKeys := func(sl *spec.Spec, at string) {
+			fmt.Fprintf(stdout, "\n# inputs of the data key%s %s (seeds' streams and cache entries):\n%s", at, sl.DataKey(), sl.DataKeyInputs())
+			for _, m := range sl.Models {
+				fmt.Fprintf(stdout, "\n# inputs of the model key of %q%s %s:\n%s", m.Label, at,
+					spec.ModelKey(m, sl.Grid.Param), spec.ModelKeyInputs(m, sl.Grid.Param))
+			}
+		}
+		if o := s.Grid.Outer; o != nil { // each slice is run, and cached, as a one-axis spec
+			for _, v := range o.Values {
+				printKeys(s.At(v), fmt.Sprintf(" at %s = %s", o.Param, strconv.FormatFloat(v, 'g', -1, 64)))
+			}
+		} else {
+			printKeys(s, "")
 		}
 	}
 	return exitOK
