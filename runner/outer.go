@@ -28,8 +28,15 @@ func runOuter(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
 	res := &Result{}
 	sums := &Sums{}
 	tm := &Timing{Created: start.UTC().Format(time.RFC3339)}
+	sub := opt
+	if opt.Progress != nil { // count the whole grid, not the slice
+		total := Size(s, 1).Cells
+		sub.Progress = func(p Progress) {
+			opt.Progress(Progress{Computed: tm.Computed + p.Computed, Cached: tm.Cached + p.Cached, Total: total})
+		}
+	}
 	for i, v := range o.Values {
-		sl, err := Run(ctx, s.At(v), opt)
+		sl, err := Run(ctx, s.At(v), sub)
 		if err != nil {
 			return nil, fmt.Errorf("%s = %s: %w", o.Param, strconv.FormatFloat(v, 'g', -1, 64), err)
 		}
@@ -60,6 +67,7 @@ func runOuter(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
 		tm.Cached += sl.Timing.Cached
 	}
 	tm.Seconds = time.Since(start).Seconds()
+	res.Created = tm.Created
 	return &Output{Result: res, Sums: sums, Timing: tm}, nil
 }
 

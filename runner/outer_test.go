@@ -7,6 +7,7 @@ import (
 	"errors"
 	"fmt"
 	"strings"
+	"sync"
 	"testing"
 )
 
@@ -195,5 +196,32 @@ func TestOuterSize(t *testing.T) {
 	}
 	if top := Size(s.At(45), 2); p.PeakBytes != top.PeakBytes {
 		t.Errorf("peak %d, want the largest slice's %d", p.PeakBytes, top.PeakBytes)
+	}
+}
+
+// TestOuterProgress: the progress of a two-axis run counts the whole grid,
+// carrying the finished slices' cells over into the next slice's calls.
+func TestOuterProgress(t *testing.T) {
+	const total = 3 * 2 * 4 * 5 // outer values × models × features × seeds
+	var mu sync.Mutex
+	var last Progress
+	calls := 0
+	opt := Options{Workers: 2, Progress: func(p Progress) {
+		mu.Lock()
+		defer mu.Unlock()
+		calls++
+		if p.Total != total || p.Computed+p.Cached > total {
+			t.Errorf("Progress(%+v), want total %d and at most that many cells done", p, total)
+		}
+		if p.Computed+p.Cached > last.Computed+last.Cached {
+			last = p
+		}
+	}}
+	res, tm := mustRun(t, mustParse(t, twoAxisSpec(5, "20, 30, 45")), opt)
+	if calls != 3*5 || last.Computed != total || tm.Computed != total {
+		t.Errorf("%d calls, last %+v, computed %d; want 15 calls and %d cells", calls, last, tm.Computed, total)
+	}
+	if res.Created != tm.Created || res.Created == "" {
+		t.Errorf("Result.Created %q, want Timing.Created %q", res.Created, tm.Created)
 	}
 }
