@@ -83,3 +83,30 @@ func TestTwoAxisRun(t *testing.T) {
 		t.Errorf("report did not rewrite the two-axis table.md: %v", err)
 	}
 }
+
+// TestTwoAxisVerify: verify recomputes a two-axis result and agrees; a
+// planted change in the second slice is caught there and nowhere else.
+func TestTwoAxisVerify(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny-2d.toml", twoAxisSpec)
+	out := filepath.Join(dir, "out")
+	if status, _, stderr := runCLI("run", sp, "-o", out); status != exitOK {
+		t.Fatalf("run: status %d, %s", status, stderr)
+	}
+	matches, _ := filepath.Glob(filepath.Join(out, "tiny-2d-*"))
+	if len(matches) != 1 {
+		t.Fatalf("result folders %v", matches)
+	}
+	res := matches[0]
+	if status, stdout, stderr := runCLI("verify", res); status != exitOK {
+		t.Fatalf("verify of an unchanged two-axis result: status %d\n%s\n%s", status, stdout, stderr)
+	}
+	editJSON(t, filepath.Join(res, "result.json"), func(m map[string]any) {
+		r := jsonPoint(m, 1, 0)["risk"].(map[string]any) // n_train = 20, features = 5
+		r["mean"] = r["mean"].(float64) * (1 + 1e-6)
+	})
+	status, stdout, _ := runCLI("verify", res)
+	if status != exitFailed || !strings.Contains(stdout, "DISAGREES: 1 number moved") || !strings.Contains(stdout, "least-squares, n_train = 20") {
+		t.Errorf("verify of a planted change at n_train = 20: status %d, want 1 and one moved number there\n%s", status, stdout)
+	}
+}

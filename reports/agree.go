@@ -164,6 +164,10 @@ func Agree(stored, fresh *runner.Result, storedSums, freshSums *runner.Sums, kap
 		a.Shape = append(a.Shape, fmt.Sprintf("grid knob: stored %q, recomputed %q", stored.Param, fresh.Param))
 		return a
 	}
+	if stored.OuterParam != fresh.OuterParam {
+		a.Shape = append(a.Shape, fmt.Sprintf("outer grid knob: stored %q, recomputed %q", stored.OuterParam, fresh.OuterParam))
+		return a
+	}
 	if stored.ModelSeeds != fresh.ModelSeeds {
 		a.Shape = append(a.Shape, fmt.Sprintf("model seeds per data seed: stored %d, recomputed %d", stored.ModelSeeds, fresh.ModelSeeds))
 	}
@@ -171,15 +175,16 @@ func Agree(stored, fresh *runner.Result, storedSums, freshSums *runner.Sums, kap
 	a.PerSeed = sums
 	for mi := range fresh.Models {
 		fm := &fresh.Models[mi]
-		sm := findModel(stored, fm.Label)
+		name := curveName(fresh, fm) // label, and outer value on a two-axis grid
+		sm := findModel(stored, name)
 		if sm == nil {
-			a.Shape = append(a.Shape, fmt.Sprintf("model %q: recomputed, not in the stored result", fm.Label))
+			a.Shape = append(a.Shape, fmt.Sprintf("model %q: recomputed, not in the stored result", name))
 			continue
 		}
 		for pi := range fm.Points {
 			fp := &fm.Points[pi]
 			sp := findPoint(sm, fp.Value)
-			w := Where{Model: fm.Label, Value: fp.Value}
+			w := Where{Model: name, Value: fp.Value}
 			if sp == nil {
 				a.Shape = append(a.Shape, fmt.Sprintf("%s: recomputed, not in the stored result", w.String(a.Param)))
 				continue
@@ -226,20 +231,21 @@ func Agree(stored, fresh *runner.Result, storedSums, freshSums *runner.Sums, kap
 			// The interpolating share counts fits: exact (it lies in [0, 1]).
 			cmp("interpolating", float64(sp.Interpolating), float64(fp.Interpolating), 1, 0, w)
 			if sums {
-				a.perSeed(storedSums, freshSums, fm.Label, fp.Value, sp, allowed, cmp)
+				a.perSeed(storedSums, freshSums, name, fp.Value, sp, allowed, cmp)
 			}
 		}
 	}
 	for mi := range stored.Models {
 		sm := &stored.Models[mi]
-		fm := findModel(fresh, sm.Label)
+		name := curveName(stored, sm)
+		fm := findModel(fresh, name)
 		if fm == nil {
-			a.Shape = append(a.Shape, fmt.Sprintf("model %q: stored, not recomputed (the spec has no such model)", sm.Label))
+			a.Shape = append(a.Shape, fmt.Sprintf("model %q: stored, not recomputed (the spec has no such model)", name))
 			continue
 		}
 		for pi := range sm.Points {
 			if findPoint(fm, sm.Points[pi].Value) == nil {
-				w := Where{Model: sm.Label, Value: sm.Points[pi].Value}
+				w := Where{Model: name, Value: sm.Points[pi].Value}
 				a.Shape = append(a.Shape, fmt.Sprintf("%s: stored, not recomputed", w.String(a.Param)))
 			}
 		}
@@ -415,9 +421,10 @@ var metricOrder = []string{
 	"risk per seed", "train_risk per seed", "norm per seed", "df per seed", "variance_model per seed",
 }
 
-func findModel(r *runner.Result, label string) *runner.ModelResult {
+// findModel finds a curve by its curveName.
+func findModel(r *runner.Result, name string) *runner.ModelResult {
 	for i := range r.Models {
-		if r.Models[i].Label == label {
+		if curveName(r, &r.Models[i]) == name {
 			return &r.Models[i]
 		}
 	}
@@ -433,9 +440,9 @@ func findPoint(m *runner.ModelResult, v float64) *runner.Point {
 	return nil
 }
 
-func findPointSums(s *runner.Sums, label string, v float64) *runner.PointSums {
+func findPointSums(s *runner.Sums, name string, v float64) *runner.PointSums {
 	for i := range s.Models {
-		if s.Models[i].Label != label {
+		if sumsCurveName(s, &s.Models[i]) != name {
 			continue
 		}
 		for j := range s.Models[i].Points {

@@ -54,3 +54,17 @@ func withOuter(r *runner.Result, row []string, param, value string) []string {
 	i := slices.Index(csvHeader, "value") + 1
 	return slices.Insert(slices.Clone(row), i, param, value)
 }
+
+// curveName names a curve of r: its label, with ", n_train = 50" on a
+// two-axis grid, where a label has one curve per outer value.
+func curveName(r *runner.Result, m *runner.ModelResult) string {
+	return m.Label + atOuter(r, m)
+}
+
+// sumsCurveName is curveName for the curves of a Sums.
+func sumsCurveName(s *runner.Sums, m *runner.ModelSums) string {
+	if m.Outer == nil {
+		return m.Label
+	}
+	return fmt.Sprintf("%s, %s = %s", m.Label, s.OuterParam, knob(*m.Outer))
+}

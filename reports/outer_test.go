@@ -120,3 +120,23 @@ func TestTwoAxisInconsistent(t *testing.T) {
 		}
 	}
 }
+
+// TestAgreeTwoAxis: Agree pairs the curves of two-axis results by label and
+// outer value, so equal results agree and a change is placed on its slice.
+func TestAgreeTwoAxis(t *testing.T) {
+	stored := twoAxisResult()
+	if a := Agree(stored, clone(t, stored), nil, nil, nil, 0); !a.OK() {
+		t.Fatalf("identical two-axis results disagree: moved %v, shape %v", a.Moved, a.Shape)
+	}
+	fresh := clone(t, stored)
+	fresh.Models[2].Points[0].Risk.Mean *= 1 + 1e-6 // min-norm, n_train = 100, p = 10
+	a := Agree(stored, fresh, nil, nil, nil, DefaultWithin)
+	if len(a.Moved) != 1 || a.Moved[0].Model != "min-norm, n_train = 100" || a.Moved[0].Value != 10 {
+		t.Errorf("moved %+v, want one number: min-norm, n_train = 100 at p = 10", a.Moved)
+	}
+	other := clone(t, stored)
+	other.OuterParam = "lambda"
+	if a := Agree(stored, other, nil, nil, nil, DefaultWithin); a.OK() || !strings.Contains(strings.Join(a.Shape, "\n"), `outer grid knob: stored "n_train", recomputed "lambda"`) {
+		t.Errorf("a different outer knob: shape %v", a.Shape)
+	}
+}

@@ -25,7 +25,21 @@ import (
 // The rounding error of a backward-stable solve grows with κ; verify uses
 // κ_max to widen its tolerance where the last bits of a fit are not
 // reproducible across builds.
+//
+// For a two-axis spec the rows follow Result.Models: per outer value, the
+// models of its slice.
 func Conditioning(s *spec.Spec, dir string) ([][]float64, error) {
+	if o := s.Grid.Outer; o != nil {
+		var out [][]float64
+		for _, v := range o.Values {
+			k, err := Conditioning(s.At(v), dir)
+			if err != nil {
+				return nil, err
+			}
+			out = append(out, k...)
+		}
+		return out, nil
+	}
 	if dir == "" {
 		return nil, fmt.Errorf("runner: Conditioning needs a cache folder")
 	}

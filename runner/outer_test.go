@@ -225,3 +225,25 @@ func TestOuterProgress(t *testing.T) {
 		t.Errorf("Result.Created %q, want Timing.Created %q", res.Created, tm.Created)
 	}
 }
+
+// TestOuterConditioning: the condition numbers of a two-axis run come per
+// curve in Result order, each row that of the slice's one-axis run.
+func TestOuterConditioning(t *testing.T) {
+	dir := t.TempDir()
+	s := mustParse(t, twoAxisSpec(3, "20, 45"))
+	res, _ := mustRun(t, s, Options{CacheDir: dir})
+	k, err := Conditioning(s, dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(k) != len(res.Models) {
+		t.Fatalf("%d rows of condition numbers for %d curves", len(k), len(res.Models))
+	}
+	one, err := Conditioning(s.At(45), dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if fmt.Sprint(k[2:]) != fmt.Sprint(one) {
+		t.Errorf("rows of n_train = 45: %v, want the slice's %v", k[2:], one)
+	}
+}
