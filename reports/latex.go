@@ -95,10 +95,10 @@ func latexTable(buf *bytes.Buffer, r *runner.Result, pv provenance, i int, style
 	if style == spec.SEPlusMinus {
 		se = "$\\pm$ one standard error"
 	}
-	short := texText(m.Label) + " (" + texText(m.Family) + ")"
+	short := texText(curveName(r, m)) + " (" + texText(m.Family) + ")" // with the outer value on a two-axis grid
 	fmt.Fprintf(buf, "\n\\begin{table}[htbp]\n\\centering\n\\small\n")
 	fmt.Fprintf(buf, "\\caption[{%s}]{%s, family \\texttt{%s}, grid \\texttt{%s}: %s; %s.%s Means over %d seeds, %s, each rounded at the second significant digit of its standard error. Spec \\texttt{%s}, hash \\texttt{%s}, engine \\texttt{%s}, %s, %s.}\n",
-		short, texText(m.Label), texText(m.Family), texText(r.Param), texText(riskText(r)), texText(splitText(r)),
+		short, texText(curveName(r, m)), texText(m.Family), texText(r.Param), texText(riskText(r)), texText(splitText(r)),
 		noise, r.Seeds, se, texText(pv.name), pv.hash, texText(pv.engine), texText(pv.seeds), texText(pv.date))
 	fmt.Fprintf(buf, "\\label{tab:%s-%s-%d}\n", texLabel(r.Name), pv.hash, i+1)
 	// Scaled down to the line width when wider, never up (graphicx: \width

@@ -140,3 +140,21 @@ func TestAgreeTwoAxis(t *testing.T) {
 		t.Errorf("a different outer knob: shape %v", a.Shape)
 	}
 }
+
+// TestTwoAxisLaTeX: one table per model and outer value, the outer value in
+// its caption.
+func TestTwoAxisLaTeX(t *testing.T) {
+	var buf bytes.Buffer
+	if err := LaTeX(&buf, twoAxisResult(), "parentheses"); err != nil {
+		t.Fatal(err)
+	}
+	out := buf.String()
+	if n := strings.Count(out, "\\begin{table}"); n != 4 {
+		t.Errorf("%d tables, want 4 (2 models × 2 outer values)", n)
+	}
+	for _, want := range []string{`\caption[{min-norm, n\_train = 100 (ols)}]`, `{ridge $\lambda$=0.1, n\_train = 50, family`} {
+		if !strings.Contains(out, want) {
+			t.Errorf("LaTeX lacks %q:\n%s", want, out)
+		}
+	}
+}
