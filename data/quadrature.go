@@ -94,8 +94,10 @@ const panelOrder = 16
 //
 //	h^(2k+1) (k!)⁴ / ((2k+1) ((2k)!)³) · h^(2k)(ξ)     (A&S 25.4.30),
 //
-// i.e. exact for polynomials of degree ≤ 2k−1 per panel; a jump inside a
-// panel costs O(h·jump), a kink O(h²). Nodes are returned in ascending
+// i.e. exact for polynomials of degree ≤ 2k−1 per panel. A jump of size J
+// inside a panel is integrated to within J times the largest weight (the
+// Chebyshev–Markov–Stieltjes separation theorem; 0.0947·h for 16 nodes),
+// a kink to O(h²). Nodes are returned in ascending
 // order. breaks must be strictly increasing, with at least two entries,
 // and m ≥ len(breaks)−1.
 //
