@@ -13,12 +13,13 @@ import (
 
 // csvHeader names the columns of CSV, in order.
 var csvHeader = []string{
-	"model", "family", "param", "value", "seeds",
-	"risk", "risk_se", "risk_q1", "risk_median", "risk_q3",
+	"model", "family", "param", "value", "seeds", "model_seeds",
+	"risk", "risk_se", "risk_mc_se", "risk_q1", "risk_median", "risk_q3",
 	"train_risk", "train_risk_se", "gap", "gap_se",
-	"bias2", "bias2_se", "variance", "variance_se", "noise", "noise_se",
+	"bias2", "bias2_se", "variance", "variance_se",
+	"variance_data", "variance_data_se", "variance_model", "variance_model_se", "noise", "noise_se",
 	"sum", "df", "df_se", "norm", "norm_se",
-	"interpolating", "heavy_tail", "errors",
+	"interpolating", "cond_median", "heavy_tail", "errors",
 	"risk_basis", "split_basis", "spec_hash",
 	"spec_name", "engine", "seed_first", "seed_last", "run_started",
 }
@@ -73,16 +74,25 @@ func CSV(w io.Writer, r *runner.Result) error {
 
 func csvRow(r *runner.Result, pv provenance, m *runner.ModelResult, p *runner.Point) []string {
 	return []string{
-		m.Label, m.Family, r.Param, full(p.Value), strconv.Itoa(p.Seeds),
-		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3),
+		m.Label, m.Family, r.Param, full(p.Value), strconv.Itoa(p.Seeds), strconv.Itoa(modelSeeds(r, m)),
+		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskMCSE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3),
 		full(p.TrainRisk.Mean), full(p.TrainRisk.SE), full(p.Gap.Mean), full(p.Gap.SE),
 		full(p.Bias2.Mean), full(p.Bias2.SE), full(p.Variance.Mean), full(p.Variance.SE),
+		full(p.VarianceData.Mean), full(p.VarianceData.SE), full(p.VarianceModel.Mean), full(p.VarianceModel.SE),
 		full(p.Noise.Mean), full(p.Noise.SE),
 		full(p.Sum), full(p.DF.Mean), full(p.DF.SE), full(p.Norm.Mean), full(p.Norm.SE),
-		full(p.Interpolating), strconv.FormatBool(p.HeavyTail), strconv.Itoa(len(p.Errors)),
+		full(p.Interpolating), full(p.CondMedian), strconv.FormatBool(p.HeavyTail), strconv.Itoa(len(p.Errors)),
 		r.RiskBasis, r.SplitBasis, r.Hash,
 		r.Name, r.Engine, pv.first, pv.last, r.Created,
 	}
+}
+
+// modelSeeds is the number of fits per data seed behind m's points.
+func modelSeeds(r *runner.Result, m *runner.ModelResult) int {
+	if modelSplit(r, m) {
+		return r.ModelSeeds
+	}
+	return 1
 }
 
 // full formats x in the shortest form that parses back to the same float64,

@@ -85,6 +85,12 @@ func latexTable(buf *bytes.Buffer, r *runner.Result, pv provenance, i int, style
 			noise = " Noise $\\sigma^2 = " + texMath(v) + "$."
 		}
 	}
+	// A randomized family with model seeds: the variance's parts due to
+	// the training sample and to the model's own randomness.
+	split := modelSplit(r, m)
+	if split {
+		head = append(head[:7], append([]string{"var.\\ (data)", "var.\\ (model)"}, head[7:]...)...)
+	}
 	cols := strings.Repeat("r", len(head))
 	if flagged {
 		head = append(head, "")
@@ -116,6 +122,9 @@ func latexTable(buf *bytes.Buffer, r *runner.Result, pv provenance, i int, style
 			pair(p.Risk), texNum(meanAt(p.RiskMedian, medianSE(p))),
 			pair(p.TrainRisk), pair(p.Gap), pair(p.Bias2), pair(p.Variance),
 			texNum(meanAt(p.DF.Mean, p.DF.SE)), texNum(meanAt(p.Norm.Mean, p.Norm.SE)),
+		}
+		if split {
+			cells = append(cells[:7], append([]string{pair(p.VarianceData), pair(p.VarianceModel)}, cells[7:]...)...)
 		}
 		if noiseCol {
 			cells = append(cells[:7], append([]string{texNum(meanAt(p.Noise.Mean, p.Noise.SE))}, cells[7:]...)...)

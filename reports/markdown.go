@@ -40,7 +40,7 @@ func Markdown(w io.Writer, r *runner.Result) error {
 			tablewriter.WithRenderer(renderer.NewMarkdown()),
 			tablewriter.WithHeaderAutoFormat(tw.Off),
 			tablewriter.WithHeaderAlignment(tw.AlignRight),
-			tablewriter.WithRowAlignmentConfig(align(len(header(r)))),
+			tablewriter.WithRowAlignmentConfig(align(len(header(r, m)))),
 		)
 		if err := fill(t, r, m); err != nil {
 			return fmt.Errorf("reports: markdown table for %s: %w", m.Label, err)

@@ -428,3 +428,50 @@ func TestProvenance(t *testing.T) {
 		})
 	}
 }
+
+// TestVarianceParts checks that a randomized family fitted with model seeds
+// shows the variance's data and model parts in every renderer, and that a
+// family without randomness of its own, or one seed per fit, does not.
+func TestVarianceParts(t *testing.T) {
+	r := synthetic()
+	r.ModelSeeds = 3
+	r.Models[0].Family = "random-features"
+	p := &r.Models[0].Points[0]
+	p.VarianceData, p.VarianceModel = est(0.0301234, 0.0019), est(0.0111111, 0.0008)
+	var term, md, tex, csv strings.Builder
+	if err := Terminal(&term, r); err != nil {
+		t.Fatal(err)
+	}
+	if err := Markdown(&md, r); err != nil {
+		t.Fatal(err)
+	}
+	if err := LaTeX(&tex, r, ""); err != nil {
+		t.Fatal(err)
+	}
+	if err := CSV(&csv, r); err != nil {
+		t.Fatal(err)
+	}
+	for name, out := range map[string]string{"terminal": term.String(), "markdown": md.String()} {
+		if n := strings.Count(out, "var (model)"); n != 1 {
+			t.Errorf("%s: %d tables with a var (model) column, want 1 (the randomized family's)", name, n)
+		}
+		if !strings.Contains(out, "0.0111") {
+			t.Errorf("%s: model part 0.0111 missing", name)
+		}
+	}
+	if n := strings.Count(tex.String(), "var.\\ (model)"); n != 1 {
+		t.Errorf("latex: %d tables with a model-variance column, want 1", n)
+	}
+	lines := strings.Split(csv.String(), "\n")
+	if !strings.Contains(lines[0], "variance_model") || !strings.Contains(lines[1], ",3,") {
+		t.Errorf("csv header or first row lacks the model part or model_seeds = 3:\n%s\n%s", lines[0], lines[1])
+	}
+	r.ModelSeeds = 1
+	term.Reset()
+	if err := Terminal(&term, r); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(term.String(), "var (model)") {
+		t.Errorf("one model seed: the table shows a model part")
+	}
+}

@@ -3,9 +3,11 @@ package reports
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"riskgrid/runner"
+	"riskgrid/spec"
 )
 
 // heavyNote explains the "!" flag.
@@ -13,29 +15,44 @@ const heavyNote = "mean carried by a few seeds; read the median"
 
 // header returns the column names of a model table, in our own words.
 // Under the lumped split the bias² column holds bias² + noise and the noise
-// column is blank.
-func header(r *runner.Result) []string {
+// column is blank. A randomized family fitted with several model seeds gets
+// the variance's two parts (data: Var_data E_model f; model: E_data
+// Var_model f). interp is the share of fits whose training risk is below
+// the interpolation tolerance, κ the median condition number of the system
+// the fits solved.
+func header(r *runner.Result, m *runner.ModelResult) []string {
 	b2 := "bias²"
 	if r.SplitBasis == runner.SplitLumped {
 		b2 = "bias²+noise"
 	}
-	return []string{
+	h := []string{
 		r.Param,
 		"risk", "± se", "median",
 		"train", "± se",
 		"gap (risk−train)", "± se",
 		b2, "± se",
 		"variance", "± se",
-		"noise", "sum",
-		"df", "‖b‖",
-		"flag",
 	}
+	if modelSplit(r, m) {
+		h = append(h, "var (data)", "± se", "var (model)", "± se")
+	}
+	return append(h,
+		"noise", "sum",
+		"df", "‖b‖", "interp", "κ",
+		"flag",
+	)
+}
+
+// modelSplit reports whether m's table shows the variance's data and model
+// parts: a family with randomness of its own, fitted with model seeds.
+func modelSplit(r *runner.Result, m *runner.ModelResult) bool {
+	return r.ModelSeeds > 1 && spec.Randomized(m.Family)
 }
 
 // row formats one grid point. Every mean is rounded at its own SE's second
 // significant digit (see measure), the median at that of medianSE, and the
 // sum, which is read against the risk, at the risk's.
-func row(r *runner.Result, p *runner.Point) []string {
+func row(r *runner.Result, m *runner.ModelResult, p *runner.Point) []string {
 	risk, riskSE := measure(p.Risk.Mean, p.Risk.SE)
 	train, trainSE := measure(p.TrainRisk.Mean, p.TrainRisk.SE)
 	gap, gapSE := measure(p.Gap.Mean, p.Gap.SE)
@@ -45,17 +62,35 @@ func row(r *runner.Result, p *runner.Point) []string {
 	if r.SplitBasis == runner.SplitLumped {
 		noise = ""
 	}
-	return []string{
+	c := []string{
 		knob(p.Value),
 		risk, riskSE, meanAt(p.RiskMedian, medianSE(p)),
 		train, trainSE,
 		gap, gapSE,
 		b2, b2SE,
 		v, vSE,
+	}
+	if modelSplit(r, m) {
+		vd, vdSE := measure(p.VarianceData.Mean, p.VarianceData.SE)
+		vm, vmSE := measure(p.VarianceModel.Mean, p.VarianceModel.SE)
+		c = append(c, vd, vdSE, vm, vmSE)
+	}
+	return append(c,
 		noise, meanAt(p.Sum, p.Risk.SE),
 		meanAt(p.DF.Mean, p.DF.SE), meanAt(p.Norm.Mean, p.Norm.SE),
+		digits2(p.Interpolating), digits2(p.CondMedian),
 		flags(p),
+	)
+}
+
+// digits2 prints a diagnostic to two significant digits ("" when
+// undefined): a share of fits, or a condition number, where more digits
+// would be noise.
+func digits2(x runner.Num) string {
+	if x.IsNaN() {
+		return ""
 	}
+	return strconv.FormatFloat(float64(x), 'g', 2, 64)
 }
 
 // medianSE is a rough standard error of the median risk, used only to

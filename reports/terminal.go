@@ -39,7 +39,7 @@ func Terminal(w io.Writer, r *runner.Result) error {
 			})),
 			tablewriter.WithHeaderAutoFormat(tw.Off),
 			tablewriter.WithHeaderAlignment(tw.AlignRight),
-			tablewriter.WithRowAlignmentConfig(align(len(header(r)))),
+			tablewriter.WithRowAlignmentConfig(align(len(header(r, m)))),
 		)
 		if err := fill(t, r, m); err != nil {
 			return fmt.Errorf("reports: terminal table for %s: %w", m.Label, err)
@@ -57,9 +57,9 @@ func Terminal(w io.Writer, r *runner.Result) error {
 
 // fill puts the header and one row per grid point into t and renders it.
 func fill(t *tablewriter.Table, r *runner.Result, m *runner.ModelResult) error {
-	t.Header(header(r))
+	t.Header(header(r, m))
 	for i := range m.Points {
-		if err := t.Append(row(r, &m.Points[i])); err != nil {
+		if err := t.Append(row(r, m, &m.Points[i])); err != nil {
 			return err
 		}
 	}
