@@ -7,6 +7,7 @@
 //	riskgrid check SPEC
 //	riskgrid report DIR
 //	riskgrid verify DIR|SPEC
+//	riskgrid diff A B
 package main
 
 import (
@@ -45,6 +46,7 @@ Usage:
   riskgrid check SPEC [-inputs]                  validate a spec and print it resolved, with its size
   riskgrid report DIR                            re-render the tables of a result folder
   riskgrid verify DIR|SPEC [-within X]           recompute a stored result from scratch and compare
+  riskgrid diff A B [-k K]                       compare two result folders, with standard errors
 
 Run 'riskgrid COMMAND -h' for a command's options.
 `
@@ -68,11 +70,13 @@ func cli(args []string, stdout, stderr io.Writer) int {
 		return cmdReport(args[1:], stdout, stderr)
 	case "verify":
 		return cmdVerify(args[1:], stdout, stderr)
+	case "diff":
+		return cmdDiff(args[1:], stdout, stderr)
 	case "-h", "-help", "--help", "help":
 		fmt.Fprint(stdout, usage)
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "riskgrid: unknown command %q (known: run, check, report, verify)\n\n%s", args[0], usage)
+	fmt.Fprintf(stderr, "riskgrid: unknown command %q (known: run, check, report, verify, diff)\n\n%s", args[0], usage)
 	return exitBadInput
 }
 
