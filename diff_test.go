@@ -207,3 +207,35 @@ count = 3
 		}
 	}
 }
+
+// TestDiffTwoAxis: curves of a two-axis grid align by label and outer
+// value, and pair within each slice's data key.
+func TestDiffTwoAxis(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny-2d.toml", twoAxisSpec)
+	var res [2]string
+	for i, o := range []string{"a", "b"} {
+		out := filepath.Join(dir, o)
+		if status, _, stderr := runCLI("run", sp, "-o", out); status != exitOK {
+			t.Fatalf("run: %s", stderr)
+		}
+		m, _ := filepath.Glob(filepath.Join(out, "tiny-2d-*"))
+		res[i] = m[0]
+	}
+	status, stdout, _ := runCLI("diff", res[0], res[1])
+	if status != exitOK || !strings.Contains(stdout, "\nleast-squares, n_train = 10\n") ||
+		!strings.Contains(stdout, "\nleast-squares, n_train = 20\n") || !strings.Contains(stdout, "| paired, 4 seeds") {
+		t.Errorf("two-axis rerun: status %d\n%s", status, stdout)
+	}
+	if strings.Contains(stdout, "only in") || strings.Contains(stdout, "different data keys") {
+		t.Errorf("two-axis rerun: curves not aligned or not paired:\n%s", stdout)
+	}
+	one := writeSpec(t, dir, "tiny.toml", tinySpec)
+	if s, _, e := runCLI("run", one, "-o", filepath.Join(dir, "c")); s != exitOK {
+		t.Fatal(e)
+	}
+	m, _ := filepath.Glob(filepath.Join(dir, "c", "tiny-*"))
+	if status, _, stderr := runCLI("diff", res[0], m[0]); status != exitBadInput || !strings.Contains(stderr, "outer knob") {
+		t.Errorf("two-axis against one-axis: status %d, %s", status, stderr)
+	}
+}

@@ -195,14 +195,14 @@ func Diff(a, b *runner.Result, sa, sb *runner.Sums, opt DiffOptions) (*Differenc
 	if a.Param != b.Param {
 		return nil, fmt.Errorf("%w: A varies %q, B varies %q: no grid values to align", ErrResult, a.Param, b.Param)
 	}
-	d := &Difference{Param: a.Param, Options: opt, PerPoint: len(diffMetrics)}
-	sameKey := sa != nil && sb != nil && sa.DataKey == sb.DataKey
-	switch {
-	case sa == nil || sb == nil:
-		d.Notes = append(d.Notes, "a sums.json is missing: independent standard errors throughout")
-	case !sameKey:
-		d.Notes = append(d.Notes, "different data keys (the data, its file or seeds.truth differ): the seeds draw different samples, so standard errors are independent")
+	if a.OuterParam != b.OuterParam {
+		return nil, fmt.Errorf("%w: the outer knob of A is %q, of B %q: no curves to align", ErrResult, a.OuterParam, b.OuterParam)
 	}
+	d := &Difference{Param: a.Param, Options: opt, PerPoint: len(diffMetrics)}
+	if sa == nil || sb == nil {
+		d.Notes = append(d.Notes, "a sums.json is missing: independent standard errors throughout")
+	}
+	keyNoted := false
 	if a.RiskBasis != b.RiskBasis || a.SplitBasis != b.SplitBasis {
 		d.Notes = append(d.Notes, fmt.Sprintf("measured differently: risk %s / split %s in A, %s / %s in B",
 			a.RiskBasis, a.SplitBasis, b.RiskBasis, b.SplitBasis))
@@ -211,16 +211,22 @@ func Diff(a, b *runner.Result, sa, sb *runner.Sums, opt DiffOptions) (*Differenc
 		d.Notes = append(d.Notes, fmt.Sprintf("engines differ: %s in A, %s in B", a.Engine, b.Engine))
 	}
 	for _, pr := range alignModels(a, b, d) {
+		na, nb := curveName(a, pr.a), curveName(b, pr.b)
+		sameKey := sa != nil && sb != nil && curveDataKey(sa, na) == curveDataKey(sb, nb)
+		if sa != nil && sb != nil && !sameKey && !keyNoted {
+			d.Notes = append(d.Notes, "different data keys (the data, its file or seeds.truth differ): the seeds draw different samples, so standard errors are independent")
+			keyNoted = true
+		}
 		for pi := range pr.a.Points {
 			pa := &pr.a.Points[pi]
 			pb := findPoint(pr.b, pa.Value)
 			if pb == nil {
-				d.OnlyA = append(d.OnlyA, Where{Model: pr.a.Label, Value: pa.Value}.String(d.Param))
+				d.OnlyA = append(d.OnlyA, Where{Model: na, Value: pa.Value}.String(d.Param))
 				continue
 			}
 			var psa, psb *runner.PointSums
 			if sameKey {
-				psa, psb = findPointSums(sa, pr.a.Label, pa.Value), findPointSums(sb, pr.b.Label, pa.Value)
+				psa, psb = findPointSums(sa, na, pa.Value), findPointSums(sb, nb, pa.Value)
 				if psa != nil && psb != nil && !slices.Equal(psa.Seeds, psb.Seeds) {
 					psa, psb = nil, nil
 				}
@@ -229,11 +235,37 @@ func Diff(a, b *runner.Result, sa, sb *runner.Sums, opt DiffOptions) (*Differenc
 		}
 		for pi := range pr.b.Points {
 			if findPoint(pr.a, pr.b.Points[pi].Value) == nil {
-				d.OnlyB = append(d.OnlyB, Where{Model: pr.b.Label, Value: pr.b.Points[pi].Value}.String(d.Param))
+				d.OnlyB = append(d.OnlyB, Where{Model: nb, Value: pr.b.Points[pi].Value}.String(d.Param))
 			}
 		}
 	}
 	return d, nil
+}
+
+// curveDataKey is the data key the seeds of the named curve were drawn
+// under: its slice's on a two-axis grid, else the run's ("" when the curve
+// is not in s).
+func curveDataKey(s *runner.Sums, name string) string {
+	for i := range s.Models {
+		m := &s.Models[i]
+		if sumsCurveName(s, m) != name {
+			continue
+		}
+		if m.DataKey != "" {
+			return m.DataKey
+		}
+		return s.DataKey
+	}
+	return ""
+}
+
+// outerEqual says whether two curves sit at the same outer value (both
+// nil on a one-axis grid).
+func outerEqual(a, b *float64) bool {
+	if a == nil || b == nil {
+		return a == nil && b == nil
+	}
+	return *a == *b
 }
 
 type modelPair struct {
@@ -241,7 +273,8 @@ type modelPair struct {
 	name string
 }
 
-// alignModels pairs the models of a and b by label, in A's order. The
+// alignModels pairs the models of a and b by label (and outer value, on a
+// two-axis grid: see curveName), in A's order. The
 // models left without a partner are then paired in order when they are as
 // many in A as in B and their families agree pair by pair (two specs that
 // differ in one model setting have different default labels: "ridge
@@ -251,35 +284,36 @@ func alignModels(a, b *runner.Result, d *Difference) []modelPair {
 	var out []modelPair
 	var restA, restB []*runner.ModelResult
 	for i := range a.Models {
-		if mb := findModel(b, a.Models[i].Label); mb != nil {
-			out = append(out, modelPair{&a.Models[i], mb, a.Models[i].Label})
+		name := curveName(a, &a.Models[i])
+		if mb := findModel(b, name); mb != nil {
+			out = append(out, modelPair{&a.Models[i], mb, name})
 		} else {
 			restA = append(restA, &a.Models[i])
 		}
 	}
 	for i := range b.Models {
-		if findModel(a, b.Models[i].Label) == nil {
+		if findModel(a, curveName(b, &b.Models[i])) == nil {
 			restB = append(restB, &b.Models[i])
 		}
 	}
 	match := len(restA) == len(restB) && len(restA) > 0
 	for i := range restA {
-		match = match && restA[i].Family == restB[i].Family
+		match = match && restA[i].Family == restB[i].Family && outerEqual(restA[i].Outer, restB[i].Outer)
 	}
 	if match {
 		for i := range restA {
-			name := restA[i].Label + " ⇄ " + restB[i].Label
-			out = append(out, modelPair{restA[i], restB[i], name})
+			na, nb := curveName(a, restA[i]), curveName(b, restB[i])
+			out = append(out, modelPair{restA[i], restB[i], restA[i].Label + " ⇄ " + nb})
 			d.Notes = append(d.Notes, fmt.Sprintf("no label matches %q of A or %q of B: compared with each other (the only unmatched models, same family)",
-				restA[i].Label, restB[i].Label))
+				na, nb))
 		}
 		return out
 	}
 	for _, m := range restA {
-		d.OnlyA = append(d.OnlyA, fmt.Sprintf("%q", m.Label))
+		d.OnlyA = append(d.OnlyA, fmt.Sprintf("%q", curveName(a, m)))
 	}
 	for _, m := range restB {
-		d.OnlyB = append(d.OnlyB, fmt.Sprintf("%q", m.Label))
+		d.OnlyB = append(d.OnlyB, fmt.Sprintf("%q", curveName(b, m)))
 	}
 	return out
 }
