@@ -22,6 +22,9 @@ var (
 	// ErrDiverge reports an iteration whose step size makes it diverge
 	// (gradient descent with a step above 2/L).
 	ErrDiverge = errors.New("models: iteration diverges")
+	// ErrInput reports training data of a shape the family cannot take
+	// (polynomial regression on more than one input column).
+	ErrInput = errors.New("models: input the family cannot take")
 	// ErrLeverage reports a training point with leverage h_ii = 1 (to
 	// working precision), for which leave-one-out is undefined.
 	ErrLeverage = errors.New("models: leave-one-out undefined at leverage 1")

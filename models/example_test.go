@@ -69,3 +69,23 @@ func ExampleRidgeLOO() {
 	// Output:
 	// 1.5000 <nil>
 }
+
+// x² on [−1, 1] in the orthonormal Legendre basis is (1/3)q_0 + (2/(3√5))q_2
+// (x² = P_0/3 + 2P_2/3, q_2 = √5 P_2), so the coefficient norm, the L² norm
+// of x² for the uniform law, is √(1/9 + 4/45) = √(1/5) = 0.4472 (by hand).
+// Degree 1 fits the mean 2.5/5 = 0.5 (the data are even); degree 2 and 3
+// recover x² exactly.
+func ExamplePolynomial_Path() {
+	x := mat.NewDense(5, 1, []float64{-1, -0.5, 0, 0.5, 1})
+	y := []float64{1, 0.25, 0, 0.25, 1}
+	t := models.NewTrain(x, y)
+	t.Test = mat.NewDense(2, 1, []float64{0.3, 0.9})
+	p := &models.Polynomial{Low: -1, High: 1, Basis: models.BasisLegendre}
+	for _, f := range p.Path(t, spec.ParamDegree, []float64{1, 2, 3}) {
+		fmt.Printf("df=%g norm=%.4f pred=%.4f\n", f.DF, f.Norm, f.Pred)
+	}
+	// Output:
+	// df=2 norm=0.5000 pred=[0.5000 0.5000]
+	// df=3 norm=0.4472 pred=[0.0900 0.8100]
+	// df=4 norm=0.4472 pred=[0.0900 0.8100]
+}

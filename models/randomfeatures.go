@@ -250,7 +250,7 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 		}
 		for j, i := range idx {
 			fits[i] = got[j]
-			rf.finish(&fits[i], test, math.Sqrt(float64(ns[i])))
+			finishNonLinear(&fits[i], test, math.Sqrt(float64(ns[i])))
 		}
 		return fits
 	}
@@ -280,15 +280,16 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 	}
 	for i := range got {
 		fits[i] = got[i]
-		rf.finish(&fits[i], test, 1)
+		finishNonLinear(&fits[i], test, 1)
 	}
 	return fits
 }
 
-// finish turns a fit on the feature matrix (coefficients b on its columns,
-// a = mult·b) into the family's fit: predictions at the test features,
-// Norm = ‖a‖₂, no Coef.
-func (rf *RandomFeatures) finish(f *Fit, test *mat.Dense, mult float64) {
+// finishNonLinear turns a fit on a derived design (random features, a
+// polynomial basis; coefficients b on its columns, the family's
+// coefficients mult·b) into the family's fit: predictions at the derived
+// test design, Norm = mult·‖b‖₂, no Coef.
+func finishNonLinear(f *Fit, test *mat.Dense, mult float64) {
 	if f.Err != nil {
 		return
 	}
