@@ -1,10 +1,13 @@
 package models
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"os"
+	"path/filepath"
 	"strconv"
 	"testing"
 
@@ -492,6 +495,83 @@ func TestKernelRidgeBadInput(t *testing.T) {
 			if k.Kernel != tc.m.Options["kernel"] || k.Bandwidth != tc.m.Params["bandwidth"] || k.Lambda != tc.m.Lambda {
 				t.Errorf("New(%+v) = %+v", tc.m, k)
 			}
+		}
+	}
+}
+
+// sklearnRef is testdata/kernel_sklearn.json: kernel ridge and k-NN values
+// computed with scikit-learn 1.2.1 (a reference library; see
+// testdata/kernel_sklearn.md).
+type sklearnRef struct {
+	X           [][]float64 `json:"x"`
+	Y           []float64   `json:"y"`
+	Test        [][]float64 `json:"test"`
+	KernelRidge []struct {
+		Kernel    string    `json:"kernel"`
+		Bandwidth float64   `json:"bandwidth"`
+		Lambda    float64   `json:"lambda"`
+		Pred      []float64 `json:"pred"`
+		TrainRisk float64   `json:"train_risk"`
+		RKHSNorm  float64   `json:"rkhs_norm"`
+	} `json:"kernel_ridge"`
+	Neighbours []struct {
+		K         int       `json:"k"`
+		Pred      []float64 `json:"pred"`
+		TrainRisk float64   `json:"train_risk"`
+	} `json:"neighbours"`
+}
+
+func loadSklearn(t *testing.T) (ref sklearnRef, tr func() *Train) {
+	t.Helper()
+	raw, err := os.ReadFile(filepath.Join("..", "testdata", "kernel_sklearn.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(raw, &ref); err != nil {
+		t.Fatalf("kernel_sklearn.json: %v", err)
+	}
+	rows := func(a [][]float64) *mat.Dense {
+		m := mat.NewDense(len(a), len(a[0]), nil)
+		for i, r := range a {
+			m.SetRow(i, r)
+		}
+		return m
+	}
+	x, test := rows(ref.X), rows(ref.Test)
+	return ref, func() *Train {
+		t := NewTrain(x, ref.Y)
+		t.Test = test
+		return t
+	}
+}
+
+// TestKernelRidgeSklearn: predictions, training risk and RKHS norm against
+// scikit-learn's KernelRidge (α = nλ), by every route.
+func TestKernelRidgeSklearn(t *testing.T) {
+	ref, tr := loadSklearn(t)
+	n := float64(len(ref.Y))
+	if len(ref.KernelRidge) == 0 {
+		t.Fatal("no kernel ridge cases")
+	}
+	for _, c := range ref.KernelRidge {
+		kr := &KernelRidge{Kernel: c.Kernel, Bandwidth: c.Bandwidth, Lambda: c.Lambda}
+		for _, f := range []Fit{
+			(&KernelRidge{Kernel: c.Kernel, Bandwidth: c.Bandwidth}).Path(tr(), spec.ParamLambda, []float64{c.Lambda})[0],
+			kr.Path(tr(), spec.ParamBandwidth, []float64{c.Bandwidth})[0],
+			kr.Path(tr(), spec.ParamNTrain, []float64{n})[0],
+		} {
+			name := fmt.Sprintf("%s h=%g λ=%g %s", c.Kernel, c.Bandwidth, c.Lambda, f.Method)
+			if f.Err != nil {
+				t.Fatalf("%s: %v", name, f.Err)
+			}
+			// Tolerance: testdata/kernel_sklearn.md, 100·n·eps·κ.
+			tol := 100 * n * eps * f.Cond
+			t.Logf("%s: cond %.3g, tol %.2g", name, f.Cond, tol)
+			if e := relDist(f.Pred, c.Pred); !(e <= tol) {
+				t.Errorf("%s: predictions rel. distance %g from scikit-learn, want ≤ %g", name, e, tol)
+			}
+			check(t, name+" train risk", f.TrainRisk, c.TrainRisk, tol)
+			check(t, name+" RKHS norm", f.Norm, c.RKHSNorm, tol)
 		}
 	}
 }

@@ -242,3 +242,27 @@ func TestNeighboursBadInput(t *testing.T) {
 		}
 	}
 }
+
+// TestNeighboursSklearn: predictions and training risk against
+// scikit-learn's KNeighborsRegressor (testdata/kernel_sklearn.md; no ties).
+func TestNeighboursSklearn(t *testing.T) {
+	ref, tr := loadSklearn(t)
+	var ks []float64
+	for _, c := range ref.Neighbours {
+		ks = append(ks, float64(c.K))
+	}
+	if len(ks) == 0 {
+		t.Fatal("no k-NN cases")
+	}
+	fits := (&Neighbours{}).Path(tr(), spec.ParamNeighbours, ks)
+	for v, c := range ref.Neighbours {
+		f := fits[v]
+		if f.Err != nil {
+			t.Fatal(f.Err)
+		}
+		if e := relDist(f.Pred, c.Pred); !(e <= 1e-14) {
+			t.Errorf("k=%d: predictions rel. distance %g from scikit-learn, want ≤ 1e-14", c.K, e)
+		}
+		check(t, fmt.Sprintf("k=%d train risk", c.K), f.TrainRisk, c.TrainRisk, 1e-14)
+	}
+}
