@@ -74,7 +74,9 @@ func init() {
 //     α = Q diag(1/(μ_j + nλ)) Qᵀy, the residual Q diag(nλ/(μ_j + nλ)) Qᵀy.
 //     Computed eigenvalues below 0 are rounding (K is positive
 //     semi-definite) and are set to 0. Cond is the exact 2-norm condition
-//     number (μ_max + nλ)/(μ_min + nλ). At λ = 0 the eigenvalues
+//     number (μ_max + nλ)/(μ_min + nλ). A penalty with nλ below the
+//     rounding of K (Cond ≳ 1/eps) gives the ridge fit of the computed K,
+//     which rounding dominates; the λ = 0 fit below is the stable limit. At λ = 0 the eigenvalues
 //     μ_j ≤ n·eps·μ_max are dropped: a backward-stable eigensolver returns
 //     the exact eigenvalues of K + E with ‖E‖₂ of order n·eps·‖K‖₂, so by
 //     Weyl's inequality smaller ones cannot be told from 0 (the tolerance
@@ -85,10 +87,14 @@ func init() {
 //   - "cholesky": a single λ > 0 (the bandwidth and n_train knobs): K + nλI
 //     = UᵀU, α by two triangular solves, DF = n − nλ·tr((K + nλI)⁻¹) with
 //     tr(A⁻¹) = ‖U⁻¹‖_F². Cond is the a-priori bound ‖A‖₁√n/(nλ) ≥ κ₁(A), or
-//     LAPACK's 1-norm estimate when the bound exceeds 1e5 (see condMax). If
-//     the estimate exceeds 1e5 or the factorization fails, that value is
-//     solved by "eigen" instead; below 1e5 the DF subtraction errs by at
-//     most about n·κ·eps ≤ n·2e-11 in absolute terms.
+//     LAPACK's 1-norm estimate when the bound exceeds 1e5 (see condMax).
+//     Unlike the Gram routes of Ridge, nothing is squared here: Cholesky
+//     and the eigendecomposition are backward-stable solves of the same
+//     matrix, with forward errors of order κ·eps both, so Cholesky is used
+//     whatever κ, and "eigen" only where the factorization fails (nλ below
+//     the rounding of K). Measured (n = 200, Gaussian kernel, κ from 1e2 to
+//     1e12): predictions agree with the eigen route to about κ·eps relative,
+//     DF to 1e-6 absolute at κ ≈ 1e12 and 1e-10 at κ ≈ 1e8.
 //
 // Path knobs:
 //
@@ -341,12 +347,12 @@ func (w *kernelSolver) eigenFit(e *kernelEigen, km *kernelMats, n int, lambda fl
 }
 
 // single fits one λ on the first n rows: Cholesky for λ > 0 when K + nλI is
-// well conditioned, the eigendecomposition otherwise.
+// numerically positive definite, the eigendecomposition otherwise.
 func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) {
 	nl := float64(n) * lambda
 	if nl > 0 {
 		u, cond, ok := w.cholesky(km.k, n, km.stride, nl)
-		if ok && cond <= condMax {
+		if ok {
 			alpha := grow(&w.alpha, n)
 			copy(alpha, km.y[:n])
 			cholSolve(u, alpha)

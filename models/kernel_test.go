@@ -375,10 +375,8 @@ func TestKernelRidgeRoutes(t *testing.T) {
 			}
 		}
 	}
-	for _, m := range []string{"eigen", "cholesky"} {
-		if !methods[m] {
-			t.Errorf("single-λ route %q never used (used %v)", m, methods)
-		}
+	if !methods["cholesky"] {
+		t.Errorf("single-λ route cholesky never used (used %v)", methods)
 	}
 }
 
@@ -573,5 +571,32 @@ func TestKernelRidgeSklearn(t *testing.T) {
 			check(t, name+" train risk", f.TrainRisk, c.TrainRisk, tol)
 			check(t, name+" RKHS norm", f.Norm, c.RKHSNorm, tol)
 		}
+	}
+}
+
+// TestKernelRidgeCholeskyFallback: with a bandwidth far above the spread of
+// the inputs, K is 11ᵀ up to terms below rounding and K + nλI with a tiny
+// λ is not numerically positive definite: the single-λ fit falls back to
+// the eigendecomposition and equals the λ path's fit.
+func TestKernelRidgeCholeskyFallback(t *testing.T) {
+	x, y := uniform(31, 30, 2, 1)
+	const h, l = 1e4, 1e-20
+	tr := NewTrain(x, y)
+	tr.Test = x
+	single := (&KernelRidge{Bandwidth: h, Lambda: l}).Path(tr, spec.ParamBandwidth, []float64{h})[0]
+	path := (&KernelRidge{Bandwidth: h}).Path(tr, spec.ParamLambda, []float64{l})[0]
+	if single.Err != nil || path.Err != nil {
+		t.Fatal(single.Err, path.Err)
+	}
+	if single.Method != "eigen" {
+		t.Fatalf("method %s (cond %g), want the eigen fallback", single.Method, single.Cond)
+	}
+	// The same computation on the same matrix.
+	if relDist(single.Pred, path.Pred) != 0 || single.DF != path.DF || single.Norm != path.Norm {
+		t.Errorf("fallback fit differs from the λ path: df %v vs %v, norm %v vs %v", single.DF, path.DF, single.Norm, path.Norm)
+	}
+	// A penalty below the rounding of K: the condition number says so.
+	if !(single.Cond > 1/eps) {
+		t.Errorf("cond = %g, want > 1/eps for nλ below the rounding of K", single.Cond)
 	}
 }
