@@ -15,6 +15,8 @@ func FuzzParse(f *testing.F) {
 	}
 	f.Add([]byte(hashBase))
 	f.Add([]byte(pieces{data: csvOK}.src()))
+	f.Add([]byte(pieces{data: curveOK + "inputs = { kind = \"gaussian\", mean = -0.5 }\ncorrupt = 0.1\n", grid: oneFeat}.src()))
+	f.Add([]byte(pieces{data: teacherOK + "inputs = { kind = \"sphere\" }\n"}.src()))
 	f.Add([]byte("name = \"t\"\n[data]\nn_train = = 3\n"))
 	f.Add([]byte("model = [{ family = 1 }, 3]\n[grid]\nparam = 'lambda'\n"))
 	f.Add([]byte("\"\r\n")) // made ErrorWithPosition of BurntSushi/toml v1.6.0 panic
