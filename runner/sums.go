@@ -1,6 +1,7 @@
 package runner
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"slices"
@@ -50,7 +51,7 @@ type PointSums struct {
 	Risk      []float64 `json:"risk"`
 	TrainRisk []float64 `json:"train_risk"`
 	Norm      []float64 `json:"norm"`
-	DF        []float64 `json:"df"`
+	DF        Floats    `json:"df"`            // NaN (null) for a family with no df
 	Interp    int       `json:"interpolating"` // seeds whose fit interpolates
 	// SumDev is Σ_s e_s (coefficient space with the intercept last, or the
 	// test inputs); SumSqDev is Σ_s ⟨e_s, e_s⟩.
@@ -137,6 +138,40 @@ func (a *Sums) Merge(b *Sums) error {
 				pa.SumSqDevInput[k] += v
 			}
 		}
+	}
+	return nil
+}
+
+// Floats is a per-seed list that may hold NaN — the df of a family that is
+// not a linear smoother (a network) — encoded like Num: NaN and ±Inf as
+// JSON null, which encoding/json refuses to write for a []float64.
+type Floats []float64
+
+// MarshalJSON implements json.Marshaler.
+func (f Floats) MarshalJSON() ([]byte, error) {
+	if f == nil {
+		return []byte("null"), nil
+	}
+	n := make([]Num, len(f))
+	for i, v := range f {
+		n[i] = Num(v)
+	}
+	return json.Marshal(n)
+}
+
+// UnmarshalJSON implements json.Unmarshaler.
+func (f *Floats) UnmarshalJSON(b []byte) error {
+	var n []Num
+	if err := json.Unmarshal(b, &n); err != nil {
+		return err
+	}
+	if n == nil {
+		*f = nil
+		return nil
+	}
+	*f = make(Floats, len(n))
+	for i, v := range n {
+		(*f)[i] = float64(v)
 	}
 	return nil
 }

@@ -2,6 +2,8 @@ package runner
 
 import (
 	"context"
+	"encoding/json"
+	"math"
 	"strings"
 	"testing"
 
@@ -53,5 +55,25 @@ func TestSumsMergeShards(t *testing.T) {
 				t.Errorf("merged seeds %v", ps.Seeds)
 			}
 		}
+	}
+}
+
+// A per-seed df list with NaN (a network reports none) survives a JSON
+// round trip as null, where a plain []float64 cannot be encoded at all.
+func TestSumsNaNDF(t *testing.T) {
+	in := PointSums{Value: 4, Seeds: []uint64{1, 2}, DF: Floats{math.NaN(), 3.5}}
+	b, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(string(b), `"df":[null,3.5]`) {
+		t.Errorf("encoded %s, want df [null,3.5]", b)
+	}
+	var out PointSums
+	if err := json.Unmarshal(b, &out); err != nil {
+		t.Fatal(err)
+	}
+	if len(out.DF) != 2 || !math.IsNaN(out.DF[0]) || out.DF[1] != 3.5 {
+		t.Errorf("decoded df %v, want [NaN 3.5]", out.DF)
 	}
 }
