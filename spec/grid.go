@@ -219,6 +219,15 @@ func (d *decoder) checkGridRange(t table, s *Spec) error {
 	if s.Grid.Param != ParamFeatures || s.Data.Dim == 0 {
 		return nil
 	}
+	// The features knob counts input columns for the families linear in
+	// them, and random features (any number) for random-features.
+	columns := false
+	for _, m := range s.Models {
+		columns = columns || Linear(m.Family)
+	}
+	if !columns {
+		return nil
+	}
 	top := s.Grid.Values[len(s.Grid.Values)-1]
 	if int(top) > s.Data.Dim {
 		what := "dim"

@@ -182,6 +182,10 @@ var roundTripSpecs = map[string]string{
 		grid:  "[grid]\nparam = \"n_train\"\nvalues = [5, 10]\n",
 		seeds: "[seeds]\ncount = 3\nmodels = 4\n",
 	}.src(),
+	"random features past dim": pieces{
+		model: "[[model]]\nfamily = \"random-features\"\n",
+		grid:  "[grid]\nparam = \"features\"\nvalues = [10, 1000]\n",
+	}.src(),
 	"width grid": pieces{
 		model: "[[model]]\nfamily = \"two-layer-net\"\nsteps = 10\nstep_size = 0.1\ninit_scale = 0.5\n",
 		grid:  "[grid]\nparam = \"width\"\nfrom = 1\nto = 100\npoints = 4\nspacing = \"log\"\n",
