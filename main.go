@@ -276,7 +276,10 @@ func writeArtifacts(dir string, ro *runner.Output) error {
 			return err
 		}
 	}
-	return writeTables(dir, ro.Result)
+	if err := writeTables(dir, ro.Result); err != nil {
+		return err
+	}
+	return writeHeatMaps(dir, ro.Result)
 }
 
 // writeTables writes the tables of res into dir, table.tex in the style its
@@ -393,6 +396,10 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 	}
 	res.Created = readCreated(filepath.Join(dir, "timing.json"))
 	if err := writeTablesAs(dir, res, *seStyle); err != nil {
+		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
+		return exitFailed
+	}
+	if err := writeHeatMaps(dir, res); err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}

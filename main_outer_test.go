@@ -75,12 +75,27 @@ func TestTwoAxisRun(t *testing.T) {
 		t.Errorf("table.csv: err %v, %d rows, want 7 with outer_value", err, len(recs))
 	}
 
+	// The heat map of the one model, as SVG and PNG; none for the one-axis run.
+	hm := filepath.Join(res, "figures", "heatmap-1-least-squares")
+	for _, ext := range []string{".svg", ".png"} {
+		if st, err := os.Stat(hm + ext); err != nil || st.Size() < 1000 {
+			t.Errorf("heat map %s: %v", hm+ext, err)
+		}
+	}
+	if one, _ := filepath.Glob(filepath.Join(out, "tiny-????????????", "figures", "heatmap-*")); len(one) != 0 {
+		t.Errorf("a one-axis result got heat maps: %v", one)
+	}
+
 	os.Remove(filepath.Join(res, "table.md"))
+	os.Remove(hm + ".png")
 	if status, _, stderr := runCLI("report", res); status != exitOK {
 		t.Errorf("report: status %d, %s", status, stderr)
 	}
 	if md, err := os.ReadFile(filepath.Join(res, "table.md")); err != nil || !strings.Contains(string(md), "### least-squares, n_train = 20") {
 		t.Errorf("report did not rewrite the two-axis table.md: %v", err)
+	}
+	if _, err := os.Stat(hm + ".png"); err != nil {
+		t.Errorf("report did not redraw the heat map: %v", err)
 	}
 }
 

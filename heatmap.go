@@ -1,0 +1,31 @@
+package main
+
+import (
+	"path/filepath"
+
+	"riskgrid/reports"
+	"riskgrid/runner"
+)
+
+// heatMapDir is the subfolder of a result folder that holds the heat maps.
+const heatMapDir = "figures"
+
+// writeHeatMaps draws the heat maps of a two-axis result into
+// dir/figures, each as SVG and PNG; a one-axis result has none.
+func writeHeatMaps(dir string, res *runner.Result) error {
+	maps, err := reports.HeatMaps(res)
+	if err != nil {
+		return err
+	}
+	for _, m := range maps {
+		for _, f := range []struct {
+			ext string
+			b   []byte
+		}{{".svg", m.SVG}, {".png", m.PNG}} {
+			if err := runner.WriteFile(filepath.Join(dir, heatMapDir, m.Name+f.ext), f.b); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
+}
