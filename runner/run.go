@@ -80,6 +80,9 @@ func Run(ctx context.Context, s *spec.Spec, opt Options) (*Output, error) {
 	if opt.Log == nil {
 		opt.Log = io.Discard
 	}
+	// Seeds warn from several goroutines; the caller's writer need not be
+	// safe for concurrent use.
+	opt.Log = &lockedWriter{w: opt.Log}
 	r, err := newRun(s, opt)
 	if err != nil {
 		return nil, err
@@ -464,4 +467,16 @@ func (r *run) predict(b []float64, b0 float64) []float64 {
 		out[i] = s
 	}
 	return out
+}
+
+// lockedWriter serializes writes to w.
+type lockedWriter struct {
+	mu sync.Mutex
+	w  io.Writer
+}
+
+func (l *lockedWriter) Write(p []byte) (int, error) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.w.Write(p)
 }
