@@ -279,7 +279,10 @@ func writeArtifacts(dir string, ro *runner.Output) error {
 	if err := writeTables(dir, ro.Result); err != nil {
 		return err
 	}
-	return writeHeatMaps(dir, ro.Result)
+	if err := writeHeatMaps(dir, ro.Result); err != nil {
+		return err
+	}
+	return writeFigures(dir, ro.Result)
 }
 
 // writeTables writes the tables of res into dir, table.tex in the style its
@@ -403,6 +406,10 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}
+	if err := writeFigures(dir, res); err != nil {
+		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
+		return exitFailed
+	}
 	if err := reports.Terminal(stdout, res); err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
@@ -455,4 +462,24 @@ func readResult(path string) (*runner.Result, error) {
 		return nil, fmt.Errorf("%s: schema %q, this riskgrid reads %q", path, res.Schema, runner.Schema)
 	}
 	return &res, nil
+}
+
+// writeFigures draws the figures of res into dir/figures, each as SVG and
+// PNG.
+func writeFigures(dir string, res *runner.Result) error {
+	figs, err := reports.Figures(res)
+	if err != nil {
+		return err
+	}
+	for _, f := range figs {
+		for _, out := range []struct {
+			ext string
+			b   []byte
+		}{{".svg", f.SVG}, {".png", f.PNG}} {
+			if err := runner.WriteFile(filepath.Join(dir, reports.FigureDir, f.Name+out.ext), out.b); err != nil {
+				return err
+			}
+		}
+	}
+	return nil
 }

@@ -288,3 +288,38 @@ func TestSEStyle(t *testing.T) {
 		}
 	}
 }
+
+func TestRunAndReportWriteFigures(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny.toml", tinySpec)
+	out := filepath.Join(dir, "out")
+	if status, _, stderr := runCLI("run", sp, "-o", out); status != exitOK {
+		t.Fatalf("run: status %d, stderr %s", status, stderr)
+	}
+	matches, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
+	if len(matches) != 1 {
+		t.Fatalf("result folders %v, want one", matches)
+	}
+	figs := filepath.Join(matches[0], "figures")
+	var names []string
+	for _, ext := range []string{"png", "svg"} {
+		for _, f := range []string{"risk-1-least-squares", "split-1-least-squares"} {
+			names = append(names, f+"."+ext)
+		}
+	}
+	for _, n := range names {
+		if fi, err := os.Stat(filepath.Join(figs, n)); err != nil || fi.Size() == 0 {
+			t.Errorf("run: figure %s missing or empty (%v)", n, err)
+		}
+	}
+	// report redraws them from result.json.
+	os.RemoveAll(figs)
+	if status, _, stderr := runCLI("report", matches[0]); status != exitOK {
+		t.Fatalf("report: status %d, stderr %s", status, stderr)
+	}
+	for _, n := range names {
+		if _, err := os.Stat(filepath.Join(figs, n)); err != nil {
+			t.Errorf("report: %v", err)
+		}
+	}
+}

@@ -1,5 +1,5 @@
 // Package reports renders a run's Result as terminal, Markdown, LaTeX and CSV
-// tables.
+// tables, and as figures (SVG and PNG, drawn with gonum/plot: Figures).
 //
 // Terminal and Markdown show one table per model, one row per grid value,
 // each mean rounded at the second significant digit of its standard error,

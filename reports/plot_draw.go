@@ -1,0 +1,432 @@
+package reports
+
+import (
+	"bytes"
+	"fmt"
+	"image/color"
+	"math"
+	"strconv"
+	"strings"
+
+	"gonum.org/v1/plot"
+	"gonum.org/v1/plot/font"
+	"gonum.org/v1/plot/plotter"
+	"gonum.org/v1/plot/text"
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/vgimg"
+	"gonum.org/v1/plot/vg/vgsvg"
+)
+
+// Figure size and resolution: 8 × 5 in at 120 dpi is a 960 × 600 PNG,
+// legible when pasted at page width. A grid of panels gets panelRowH per row.
+const (
+	figW      = 8 * vg.Inch
+	figH      = 5 * vg.Inch
+	panelRowH = 3 * vg.Inch   // height of a row of panels
+	captionH  = 1.3 * vg.Inch // room left for the caption under panel rows
+	wideW     = 11 * vg.Inch  // width of a figure with two columns of panels
+	pngDPI    = 120
+)
+
+// figure is a set of panels laid out on a grid, a legend in a column on the
+// right (outside every panel, so it hides no curve) and a caption under
+// them.
+type figure struct {
+	panels  [][]*plot.Plot // rows × columns; nil cells stay empty
+	legend  plot.Legend
+	caption []string // paragraphs, wrapped to the figure's width
+	w, h    vg.Length
+}
+
+// render draws f as SVG and as PNG.
+func (f *figure) render() (svg, png []byte, err error) {
+	sc := vgsvg.New(f.w, f.h)
+	f.draw(draw.New(sc))
+	var sb bytes.Buffer
+	if _, err := sc.WriteTo(&sb); err != nil {
+		return nil, nil, fmt.Errorf("svg: %w", err)
+	}
+	ic := vgimg.NewWith(vgimg.UseWH(f.w, f.h), vgimg.UseDPI(pngDPI))
+	f.draw(draw.New(ic))
+	var pb bytes.Buffer
+	if _, err := (vgimg.PngCanvas{Canvas: ic}).WriteTo(&pb); err != nil {
+		return nil, nil, fmt.Errorf("png: %w", err)
+	}
+	return sb.Bytes(), pb.Bytes(), nil
+}
+
+const pad = vg.Inch / 8
+
+// sans is the face of every text in a figure (embedded in gonum/plot).
+var sans = font.Font{Typeface: "Liberation", Variant: "Sans"}
+
+func (f *figure) draw(dc draw.Canvas) {
+	full := dc.Rectangle
+	dc.FillPolygon(color.White, []vg.Point{full.Min, {X: full.Min.X, Y: full.Max.Y}, full.Max, {X: full.Max.X, Y: full.Min.Y}})
+
+	// Caption, bottom up: wrapped lines in a strip under a hairline.
+	cs := captionStyle()
+	lineH := cs.FontExtents().Height * 1.15
+	var lines []string
+	for _, para := range f.caption {
+		lines = append(lines, wrap(cs, para, full.Size().X-2*pad)...)
+	}
+	capH := vg.Length(len(lines))*lineH + pad
+	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
+	for _, l := range lines {
+		dc.FillText(cs, vg.Point{X: full.Min.X + pad, Y: y}, l)
+		y -= lineH
+	}
+	dc.StrokeLine2(draw.LineStyle{Color: color.Gray{0xb0}, Width: vg.Points(0.5)},
+		full.Min.X+pad, full.Min.Y+capH, full.Max.X-pad, full.Min.Y+capH)
+
+	// Legend column on the right, sized to its longest entry.
+	lr := f.legend.Rectangle(dc)
+	legW := lr.Size().X + 2*pad
+	if maxW := full.Size().X * 0.42; legW > maxW {
+		legW = maxW
+	}
+	lc := draw.Crop(dc, full.Size().X-legW+pad, -pad/2, capH+pad, -pad)
+	f.legend.Draw(lc)
+
+	area := draw.Crop(dc, 0, -legW, capH, -pad/2)
+	rows := len(f.panels)
+	cols := len(f.panels[0])
+	if rows == 1 && cols == 1 {
+		drawPanel(f.panels[0][0], area)
+		return
+	}
+	tiles := draw.Tiles{Rows: rows, Cols: cols, PadX: pad, PadY: pad / 2}
+	for i, row := range f.panels {
+		for j, p := range row {
+			if p != nil {
+				drawPanel(p, tiles.At(area, j, i))
+			}
+		}
+	}
+}
+
+// drawPanel draws p in c with its y-axis label drawn here, centred on the
+// panel: gonum/plot reserves room for a centred label at the arithmetic
+// midpoint of the axis range, which on a log axis lies near the top, and
+// shrinks the panel to make room for it there.
+func drawPanel(p *plot.Plot, c draw.Canvas) {
+	label := p.Y.Label.Text
+	if label == "" {
+		p.Draw(c)
+		return
+	}
+	sty := p.Y.Label.TextStyle
+	sty.Rotation += math.Pi / 2
+	sty.XAlign, sty.YAlign = draw.XCenter, draw.YTop
+	h := sty.FontExtents().Height
+	c.FillText(sty, vg.Point{X: c.Min.X, Y: (c.Min.Y + c.Max.Y) / 2}, label)
+	p.Y.Label.Text = ""
+	defer func() { p.Y.Label.Text = label }()
+	p.Draw(draw.Crop(c, h+vg.Points(5), 0, 0, 0))
+}
+
+func captionStyle() text.Style {
+	return text.Style{
+		Color:   color.Gray{0x30},
+		Font:    font.From(sans, 8.5),
+		Handler: plot.DefaultTextHandler,
+		XAlign:  draw.XLeft,
+		YAlign:  draw.YBottom,
+	}
+}
+
+// wrap breaks s into lines no wider than w in style sty, at spaces.
+func wrap(sty text.Style, s string, w vg.Length) []string {
+	var lines []string
+	cur := ""
+	for _, word := range strings.Fields(s) {
+		try := word
+		if cur != "" {
+			try = cur + " " + word
+		}
+		if cur != "" && sty.Width(try) > w {
+			lines = append(lines, cur)
+			cur = word
+			continue
+		}
+		cur = try
+	}
+	if cur != "" {
+		lines = append(lines, cur)
+	}
+	return lines
+}
+
+func newLegend() plot.Legend {
+	l := plot.NewLegend()
+	l.TextStyle.Font = font.From(sans, 9.5)
+	l.Top, l.Left = true, true
+	l.ThumbnailWidth = vg.Points(24)
+	l.Padding = vg.Points(3)
+	return l
+}
+
+// newPanel makes an empty panel with the grid's x axis and the given y axis.
+func newPanel(g geometry, ys yScale, yLabel string) *plot.Plot {
+	p := plot.New()
+	p.Title.Padding = vg.Points(6)
+	p.X.Label.Text = g.xName
+	p.Y.Label.Text = yLabel
+	p.Title.TextStyle.Font = font.From(sans, 11)
+	p.X.Label.TextStyle.Font = font.From(sans, 10)
+	p.Y.Label.TextStyle.Font = font.From(sans, 10)
+	p.X.Tick.Label.Font = font.From(sans, 9)
+	p.Y.Tick.Label.Font = font.From(sans, 9)
+	p.X.Tick.Marker, p.Y.Tick.Marker = linearTicks{}, linearTicks{}
+	if g.logX {
+		p.X.Scale = plot.LogScale{}
+		p.X.Tick.Marker = logTicks{}
+	}
+	if ys.log {
+		p.Y.Scale = plot.LogScale{}
+		p.Y.Tick.Marker = logTicks{}
+	}
+	grid := plotter.NewGrid()
+	grid.Vertical.Color = color.Gray{0xe4}
+	grid.Horizontal.Color = color.Gray{0xe4}
+	p.Add(grid)
+	return p
+}
+
+// fixRanges pads degenerate axis ranges (a single grid value, a constant
+// risk) so that a log axis never sees min = max, and starts a linear risk
+// axis at 0 when the data are non-negative and not far from it.
+func fixRanges(p *plot.Plot, g geometry, ys yScale) {
+	widen := func(a *plot.Axis, log bool) {
+		if a.Min < a.Max {
+			return
+		}
+		if log {
+			a.Min, a.Max = a.Min/2, a.Max*2
+			return
+		}
+		d := math.Max(math.Abs(a.Min)*0.1, 1)
+		a.Min, a.Max = a.Min-d, a.Max+d
+	}
+	widen(&p.X, g.logX)
+	widen(&p.Y, ys.log)
+	if !ys.log && p.Y.Min > 0 && p.Y.Min < 0.25*p.Y.Max {
+		p.Y.Min = 0
+	}
+}
+
+// vrule is a vertical dash-dotted line at x across the whole panel height.
+// It is added before the data so that curves are drawn over it, and has no
+// data range: it marks x without widening the y axis. The caller keeps x
+// inside the x range.
+type vrule struct{ x float64 }
+
+var ruleStyle = lineStyle(color.Gray{0x70}, 1.1, []vg.Length{vg.Points(6), vg.Points(2.5), vg.Points(1.2), vg.Points(2.5)})
+
+func (v vrule) Plot(c draw.Canvas, p *plot.Plot) {
+	tx, _ := p.Transforms(&c)
+	x := tx(v.x)
+	c.StrokeLine2(ruleStyle, x, c.Min.Y, x, c.Max.Y)
+}
+
+func (v vrule) Thumbnail(c *draw.Canvas) {
+	y := (c.Min.Y + c.Max.Y) / 2
+	c.StrokeLine2(ruleStyle, c.Min.X, y, c.Max.X, y)
+}
+
+func lineStyle(c color.Color, width float64, dashes []vg.Length) draw.LineStyle {
+	return draw.LineStyle{Color: c, Width: vg.Points(width), Dashes: dashes}
+}
+
+// line draws xys (finite by construction) in style ls.
+func line(xys plotter.XYs, ls draw.LineStyle) *plotter.Line {
+	l, err := plotter.NewLine(xys)
+	if err != nil {
+		panic("reports: line: " + err.Error())
+	}
+	l.LineStyle = ls
+	return l
+}
+
+// band fills a closed outline without an edge.
+func band(outline plotter.XYs, c color.Color) *plotter.Polygon {
+	poly, err := plotter.NewPolygon(outline)
+	if err != nil {
+		panic("reports: band: " + err.Error())
+	}
+	poly.Color = c
+	poly.LineStyle.Width = 0
+	return poly
+}
+
+// glyphs draws a marker at each point; nil when there are none.
+func glyphs(xys plotter.XYs, shape draw.GlyphDrawer, c color.Color, radius float64) *plotter.Scatter {
+	if len(xys) == 0 {
+		return nil
+	}
+	s, err := plotter.NewScatter(xys)
+	if err != nil {
+		panic("reports: markers: " + err.Error())
+	}
+	s.GlyphStyle = draw.GlyphStyle{Color: c, Radius: vg.Points(radius), Shape: shape}
+	return s
+}
+
+// errBars draws ±2 SE bars of isolated points.
+func errBars(bars []bar, c color.Color) *intervals {
+	return &intervals{bars: bars, style: lineStyle(c, 3, nil), cap: vg.Points(5)}
+}
+
+// quartileBars draws q1–q3 bars with caps.
+func quartileBars(bars []bar, c color.Color) *intervals {
+	return &intervals{bars: bars, style: lineStyle(c, 1.4, nil), cap: vg.Points(7)}
+}
+
+// intervals draws vertical bars from lo to hi at x with caps; it reports
+// its data range so the axes include the whole bar.
+type intervals struct {
+	bars  []bar
+	style draw.LineStyle
+	cap   vg.Length
+}
+
+func (iv *intervals) Plot(c draw.Canvas, p *plot.Plot) {
+	tx, ty := p.Transforms(&c)
+	for _, b := range iv.bars {
+		x, lo, hi := tx(b.x), ty(b.lo), ty(b.hi)
+		c.StrokeLine2(iv.style, x, lo, x, hi)
+		cs := iv.style
+		cs.Width = vg.Points(1.2)
+		c.StrokeLine2(cs, x-iv.cap/2, lo, x+iv.cap/2, lo)
+		c.StrokeLine2(cs, x-iv.cap/2, hi, x+iv.cap/2, hi)
+	}
+}
+
+func (iv *intervals) DataRange() (xmin, xmax, ymin, ymax float64) {
+	xmin, ymin = math.Inf(1), math.Inf(1)
+	xmax, ymax = math.Inf(-1), math.Inf(-1)
+	for _, b := range iv.bars {
+		xmin, xmax = math.Min(xmin, b.x), math.Max(xmax, b.x)
+		ymin, ymax = math.Min(ymin, b.lo), math.Max(ymax, b.hi)
+	}
+	return
+}
+
+func (iv *intervals) Thumbnail(c *draw.Canvas) {
+	x := (c.Min.X + c.Max.X) / 2
+	c.StrokeLine2(iv.style, x, c.Min.Y, x, c.Max.Y)
+}
+
+// diamondGlyph is a filled diamond (the median).
+type diamondGlyph struct{}
+
+func (diamondGlyph) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	r := sty.Radius
+	var p vg.Path
+	p.Move(vg.Point{X: pt.X, Y: pt.Y + r})
+	p.Line(vg.Point{X: pt.X + r, Y: pt.Y})
+	p.Line(vg.Point{X: pt.X, Y: pt.Y - r})
+	p.Line(vg.Point{X: pt.X - r, Y: pt.Y})
+	p.Close()
+	c.Fill(p)
+}
+
+// downTriangle is an open triangle pointing down: a value below the axis
+// floor, drawn on it.
+type downTriangle struct{}
+
+func (downTriangle) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) {
+	c.SetLineStyle(draw.LineStyle{Color: sty.Color, Width: vg.Points(1)})
+	r := sty.Radius
+	var p vg.Path
+	p.Move(vg.Point{X: pt.X, Y: pt.Y})
+	p.Line(vg.Point{X: pt.X - r, Y: pt.Y + 1.6*r})
+	p.Line(vg.Point{X: pt.X + r, Y: pt.Y + 1.6*r})
+	p.Close()
+	c.Stroke(p)
+}
+
+// logTicks labels a log axis: every power of ten, and 2 and 5 times it (or
+// every integer multiple) when the axis spans too few decades for powers
+// alone to give three labels. Minor ticks mark the other multiples.
+type logTicks struct{}
+
+func (logTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(lo > 0) || !(hi > lo) {
+		return nil
+	}
+	decades := math.Log10(hi / lo)
+	label := map[int]bool{1: true}
+	switch {
+	case decades < 0.7:
+		for m := 2; m <= 9; m++ {
+			label[m] = true
+		}
+	case decades < 3:
+		label[2], label[5] = true, true
+	}
+	step := 1
+	if decades > 8 {
+		step = 2
+	}
+	var ticks []plot.Tick
+	for e := int(math.Floor(math.Log10(lo))); e <= int(math.Ceil(math.Log10(hi))); e++ {
+		for m := 1; m <= 9; m++ {
+			v := float64(m) * math.Pow10(e)
+			if v < lo*(1-1e-9) || v > hi*(1+1e-9) {
+				continue
+			}
+			t := plot.Tick{Value: v}
+			if label[m] && (m != 1 || e%step == 0) {
+				t.Label = num(v)
+			}
+			ticks = append(ticks, t)
+		}
+	}
+	return ticks
+}
+
+// linearTicks labels a linear axis every 1, 2, 2.5 or 5 times a power of
+// ten, whichever gives 4 to 8 labels, with a minor tick between labels;
+// every label gets the same number of decimals.
+type linearTicks struct{}
+
+func (linearTicks) Ticks(lo, hi float64) []plot.Tick {
+	if !(hi > lo) || math.IsInf(hi-lo, 0) {
+		return nil
+	}
+	raw := (hi - lo) / 5
+	e := math.Floor(math.Log10(raw))
+	step := math.Pow10(int(e))
+	for _, m := range []float64{1, 2, 2.5, 5, 10} {
+		if m*math.Pow10(int(e)) >= raw*0.75 {
+			step = m * math.Pow10(int(e))
+			break
+		}
+	}
+	decimals := 0
+	for d := step; d < 1 && decimals < 12; d *= 10 {
+		decimals++
+	}
+	if math.Abs(step*math.Pow10(decimals)-math.Round(step*math.Pow10(decimals))) > 1e-9 {
+		decimals++ // 2.5 × 10^k needs one more
+	}
+	var ticks []plot.Tick
+	first := math.Ceil(lo/step - 1e-9)
+	for k := first; k*step <= hi+step*1e-9; k++ {
+		v := k * step
+		if math.Abs(v) < step*1e-9 {
+			v = 0
+		}
+		ticks = append(ticks, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'f', decimals, 64)})
+		if m := v + step/2; m <= hi {
+			ticks = append(ticks, plot.Tick{Value: m})
+		}
+	}
+	if first*step-step/2 >= lo {
+		ticks = append(ticks, plot.Tick{Value: first*step - step/2})
+	}
+	return ticks
+}
