@@ -11,6 +11,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 )
 
 // DataPath returns the path of the data file: Data.File when absolute, else
@@ -93,6 +94,9 @@ func (d *decoder) checkCSV(s *Spec) error {
 	D.Dim = len(D.Features)
 	if err := d.checkGridRange(d.gridT, s); err != nil {
 		return err
+	}
+	if D.Dim > 1 && slices.ContainsFunc(s.Models, func(m Model) bool { return m.Family == FamilyPolynomial }) {
+		return d.errf("data.features", "%s gives %d feature columns, and polynomial regression takes one input (accepted: features = [one column])", path, D.Dim)
 	}
 
 	rows := 0

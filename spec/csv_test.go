@@ -118,6 +118,9 @@ func TestLoadErrors(t *testing.T) {
 			want: `sampling = "bootstrap"`},
 		{name: "n_test takes all rows", src: csvSpec("n_train = 2\n"+gh+"n_test = 12 #<\nsampling = \"bootstrap\"\n", ""), key: "data.n_test",
 			want: "holds out 12 of the 12 rows"},
+		{name: "polynomial on two feature columns", src: pieces{data: "[data] #<\nsource = \"csv\"\nn_train = 5\n" + gh,
+			model: "[[model]]\nfamily = \"polynomial\"\n", grid: "[grid]\nparam = \"degree\"\nvalues = [1, 2]\n"}.src(), key: "data.features",
+			want: "gives 3 feature columns, and polynomial regression takes one input"},
 		{name: "ragged csv", src: csvSpec("n_train = 1\nfile = \"ragged.csv\"\ntarget = \"y\"\n", ""), csvFile: true, wantLine: 3,
 			want: "malformed CSV: wrong number of fields (accepted: RFC 4180 rows"},
 	}

@@ -157,6 +157,7 @@ func TestParseErrors(t *testing.T) {
 		{"key of another family", pieces{model: "[[model]]\nfamily = \"ridge\"\nlambda = 1\nwidth = 3 #<\n"}, "model[1].width", `not a key of family "ridge" (keys for it: family, label, lambda, intercept)`},
 		{"polynomial interval", pieces{model: "[[model]]\nfamily = \"polynomial\"\nlow = 1\nhigh = 0 #<\n", grid: "[grid]\nparam = \"degree\"\nvalues = [1]\n"}, "model[1].high", `accepted: high > low`},
 		{"features past dim with a linear family beside random features", pieces{model: "[[model]]\nfamily = \"random-features\"\n[[model]]\nfamily = \"least-squares\"\n", grid: "[grid]\nparam = \"features\"\nvalues = [10, 400] #<\n"}, "grid.values", `400 features exceed dim = 50`},
+		{"polynomial on 50 inputs", pieces{model: "[[model]]\nfamily = \"polynomial\" #<\n", grid: "[grid]\nparam = \"degree\"\nvalues = [1, 2]\n"}, "model[1].family", `polynomial regression takes one input, the data have dim = 50`},
 		{"zero model seeds", pieces{seeds: "[seeds]\ncount = 3\nmodels = 0 #<\n"}, "seeds.models", `accepted: an integer ≥ 1`},
 		{"lambda grid with model lambda", pieces{model: ridge[:len(ridge)-1] + " #<\n", grid: lamGrid}, "model[1].lambda", "the grid param is lambda, which sets it (accepted: leave lambda out"},
 		{"n_train with n_train grid", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20 #<\ndim = 50\nnoise = { sd = 0.5 }\n", grid: ntGrid}, "data.n_train", "the grid param is n_train, which sets the training sizes (accepted: leave n_train out of [data])"},

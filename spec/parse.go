@@ -591,6 +591,9 @@ func (d *decoder) models(root table, s *Spec, f *facts) error {
 		if M.Family == FamilyPolynomial && M.Params["high"] <= M.Params["low"] {
 			return d.errf(t.key("high"), "got %s ≤ low = %s (accepted: high > low)", fmtFloat(M.Params["high"]), fmtFloat(M.Params["low"]))
 		}
+		if M.Family == FamilyPolynomial && s.Data.Dim > 1 {
+			return d.errf(t.key("family"), "polynomial regression takes one input, the data have dim = %d (accepted: a source with one input: curve, dim = 1, or one csv feature column)", s.Data.Dim)
+		}
 	}
 	return nil
 }
