@@ -172,7 +172,7 @@ var roundTripSpecs = map[string]string{
 	"csv n_test":        pieces{data: csvOK + "n_test = 7\n", model: "[[model]]\nfamily = \"ridge\"\nlambda = 3\n"}.src(),
 	"plus-minus tables": pieces{seeds: seedsOK + "[tables]\nse_style = \"plus-minus\"\n"}.src(),
 	"every family on n_train, model seeds": pieces{
-		data: "[data]\nsource = \"linear-gaussian\"\ndim = 10\nnoise = { sd = 1 }\n",
+		data: "[data]\nsource = \"linear-gaussian\"\ndim = 1\nnoise = { sd = 1 }\n",
 		model: "[[model]]\nfamily = \"random-features\"\nfeatures = 40\nactivation = \"fourier\"\nscale = 2\n" +
 			"[[model]]\nfamily = \"polynomial\"\ndegree = 5\nlow = 0\nhigh = 3\nbasis = \"chebyshev\"\nlambda = 1e-3\n" +
 			"[[model]]\nfamily = \"kernel-ridge\"\nbandwidth = 0.5\nkernel = \"laplace\"\n" +
