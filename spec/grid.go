@@ -216,6 +216,9 @@ func includeValues(t table) []float64 {
 // checkGridRange checks that a features grid does not exceed the input
 // dimension (known for a generator, and for csv once the columns are).
 func (d *decoder) checkGridRange(t table, s *Spec) error {
+	if err := d.checkNeighbours(s); err != nil {
+		return err
+	}
 	if s.Grid.Param != ParamFeatures || s.Data.Dim == 0 {
 		return nil
 	}
