@@ -40,8 +40,9 @@ func init() {
 //	Norm      = ‖ŷ‖₂/√n, the empirical L2 norm of the fitted function on the
 //	            training inputs (a k-NN fit has no parameter norm)
 //	DF        = tr(H) = Σ_i [i ∈ N_k(x_i)]/k, which is n/k when no input
-//	            repeats (ESL §7.6, from memory); a row with k or more
-//	            duplicates of lower index is not its own neighbour
+//	            repeats (The Elements of Statistical Learning, §7.6, from
+//	            memory); a row with k or more duplicates of lower index
+//	            is not its own neighbour
 //	Cond      = NaN (no system is solved); Method "sort".
 //
 // Path knobs:
