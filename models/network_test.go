@@ -360,3 +360,44 @@ func TestNetworkInit(t *testing.T) {
 		}
 	}
 }
+
+// TestNetworkLazy: under the 1/√m output scaling, training moves each
+// weight by O(1/√m) while ‖θ₀‖ grows like √m, so the relative change of
+// the parameters after a fixed number of steps falls like 1/√m, while the
+// training loss still drops — the lazy regime ("Neural tangent kernel:
+// convergence and generalization in neural networks", NeurIPS 2018,
+// arXiv:1806.07572; "On lazy training in differentiable programming",
+// NeurIPS 2019, arXiv:1812.07956; the rate from memory). Widths 64 and
+// 4096 differ by √64 = 8 in that ratio; the check accepts 4 to 16, and the
+// loss must fall by a similar factor at both widths.
+func TestNetworkLazy(t *testing.T) {
+	const n, d, steps, eta = 10, 2, 100, 0.5
+	x, y, _ := netSample(4, n, d, 0)
+	xt := augmentT(x, n)
+	rel := map[int]float64{}
+	drop := map[int]float64{}
+	for _, m := range []int{64, 4096} {
+		nn := newNet(netTrain(x, y, nil, 1), m, d, 1)
+		start := append(append([]float64(nil), nn.theta...), nn.a...)
+		b := &netBuf{z: make([]float64, n*m), r: make([]float64, n), ga: make([]float64, m), gtheta: make([]float64, m*(d+1))}
+		first := nn.lossGrad(xt, y, b)
+		for range steps {
+			floats.AddScaled(nn.theta, -eta, b.gtheta)
+			floats.AddScaled(nn.a, -eta, b.ga)
+			nn.lossGrad(xt, y, b)
+		}
+		last := nn.lossGrad(xt, y, b)
+		end := append(append([]float64(nil), nn.theta...), nn.a...)
+		rel[m] = floats.Distance(end, start, 2) / floats.Norm(start, 2)
+		drop[m] = last / first
+	}
+	if r := rel[64] / rel[4096]; r < 4 || r > 16 {
+		t.Errorf("relative parameter change: width 64 %.4g, width 4096 %.4g, ratio %.3g; want about √64 = 8 (4 to 16)", rel[64], rel[4096], r)
+	}
+	for m, f := range drop {
+		if !(f < 0.5) {
+			t.Errorf("width %d: the loss only fell to %.3g of its start in %d steps", m, f, steps)
+		}
+	}
+	t.Logf("relative change %.4g (m=64), %.4g (m=4096); loss ratio %.3g, %.3g", rel[64], rel[4096], drop[64], drop[4096])
+}
