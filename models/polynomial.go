@@ -167,7 +167,6 @@ func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
 		return fits
 	}
 	tooBig := func(deg float64) bool { return deg+1 > float64(maxFeatureEntries/max(rows, testRows, 1)) }
-	var test *mat.Dense
 	if knob == spec.ParamDegree {
 		cols := make([]int, len(values))
 		top := 0
@@ -191,13 +190,10 @@ func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
 		} else {
 			got = (&Ridge{Lambda: p.Lambda}).Path(inner, spec.ParamFeatures, sub)
 		}
-		if t.Test != nil {
-			test = p.basis(t.Test, top-1)
-		}
 		for j, i := range idx {
 			fits[i] = got[j]
-			finishNonLinear(&fits[i], test, 1)
 		}
+		finishDerived(fits, t.Test, p.design, one)
 		return fits
 	}
 	if p.Degree < 0 || tooBig(float64(p.Degree)) {
@@ -215,12 +211,12 @@ func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
 	default:
 		got = (&Ridge{Lambda: p.Lambda}).Path(inner, knob, values)
 	}
-	if t.Test != nil {
-		test = p.basis(t.Test, p.Degree)
-	}
-	for i := range got {
-		fits[i] = got[i]
-		finishNonLinear(&fits[i], test, 1)
-	}
+	copy(fits, got)
+	finishDerived(fits, t.Test, p.design, one)
 	return fits
 }
+
+// design returns the first cols basis columns (degree cols − 1) at x.
+func (p *Polynomial) design(x *mat.Dense, cols int) *mat.Dense { return p.basis(x, cols-1) }
+
+func one(int) float64 { return 1 }

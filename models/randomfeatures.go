@@ -244,14 +244,11 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 			// Unscaled features b = a/√N: (1/n)‖y − Φb‖² + λN‖b‖².
 			w.ridgeFeatures(dd, ps, func(p int) float64 { return lambda * float64(p) }, ff)
 		})
-		var test *mat.Dense
-		if t.Test != nil {
-			test = fm.apply(t.Test, top, 1)
-		}
 		for j, i := range idx {
 			fits[i] = got[j]
-			finishNonLinear(&fits[i], test, math.Sqrt(float64(ns[i])))
 		}
+		finishDerived(fits, t.Test, func(x *mat.Dense, cols int) *mat.Dense { return fm.apply(x, cols, 1) },
+			func(p int) float64 { return math.Sqrt(float64(p)) })
 		return fits
 	}
 
@@ -274,31 +271,59 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 	default:
 		got = (&Ridge{Lambda: rf.Lambda}).Path(inner, knob, values)
 	}
-	var test *mat.Dense
-	if t.Test != nil {
-		test = fm.apply(t.Test, n, mult)
-	}
-	for i := range got {
-		fits[i] = got[i]
-		finishNonLinear(&fits[i], test, 1)
-	}
+	copy(fits, got)
+	finishDerived(fits, t.Test, func(x *mat.Dense, cols int) *mat.Dense { return fm.apply(x, cols, mult) },
+		func(int) float64 { return 1 })
 	return fits
 }
 
-// finishNonLinear turns a fit on a derived design (random features, a
-// polynomial basis; coefficients b on its columns, the family's
-// coefficients mult·b) into the family's fit: predictions at the derived
-// test design, Norm = mult·‖b‖₂, no Coef.
-func finishNonLinear(f *Fit, test *mat.Dense, mult float64) {
-	if f.Err != nil {
-		return
+// predictBlock is the number of test rows whose derived design (random
+// features, a polynomial basis) is held at once: the predictions are
+// computed block by block, so a path never holds the m × N_max test design
+// (2048 × 2000 would be 31 MiB per worker), only predictBlock × N_max.
+const predictBlock = 256
+
+// finishDerived turns fits on a derived design B (coefficients b on its
+// columns; the family's coefficients are mult(len(b))·b) into the
+// family's fits: Pred = B(test)[:, :len(b)]·b (nil when test is nil),
+// Norm scaled by mult, Coef nil. design(x, cols) returns the first cols
+// columns of B at the rows of x. A non-finite prediction is an
+// ErrNumerical error of that fit.
+func finishDerived(fits []Fit, test *mat.Dense, design func(x *mat.Dense, cols int) *mat.Dense, mult func(p int) float64) {
+	top := 0
+	for i := range fits {
+		if f := &fits[i]; f.Err == nil {
+			top = max(top, len(f.Coef))
+			f.Norm *= mult(len(f.Coef))
+			if test != nil {
+				f.Pred = make([]float64, test.RawMatrix().Rows)
+			}
+		}
 	}
-	b := f.Coef
-	f.Coef = nil
-	f.Norm *= mult
-	f.Pred = predict(test, b)
-	if !allFinite(f.Pred) {
-		*f = Fit{Method: f.Method, Cond: f.Cond, Err: fmt.Errorf("%w: non-finite prediction at a test input (condition %g)", ErrNumerical, f.Cond)}
+	if test != nil && top > 0 {
+		rows, cols := test.Dims()
+		for i0 := 0; i0 < rows; i0 += predictBlock {
+			i1 := min(i0+predictBlock, rows)
+			b := design(test.Slice(i0, i1, 0, cols).(*mat.Dense), top).RawMatrix()
+			for i := range fits {
+				f := &fits[i]
+				if f.Err != nil {
+					continue
+				}
+				blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: b.Rows, Cols: len(f.Coef), Stride: b.Stride, Data: b.Data},
+					blas64.Vector{N: len(f.Coef), Inc: 1, Data: f.Coef}, 0, blas64.Vector{N: b.Rows, Inc: 1, Data: f.Pred[i0:i1]})
+			}
+		}
+	}
+	for i := range fits {
+		f := &fits[i]
+		if f.Err != nil {
+			continue
+		}
+		f.Coef = nil
+		if !allFinite(f.Pred) {
+			*f = Fit{Method: f.Method, Cond: f.Cond, Err: fmt.Errorf("%w: non-finite prediction at a test input (condition %g)", ErrNumerical, f.Cond)}
+		}
 	}
 }
 
@@ -310,18 +335,6 @@ func allFinite(v []float64) bool {
 		}
 	}
 	return true
-}
-
-// predict returns test[:, :len(b)]·b, or nil when test is nil.
-func predict(test *mat.Dense, b []float64) []float64 {
-	if test == nil {
-		return nil
-	}
-	r := test.RawMatrix()
-	out := make([]float64, r.Rows)
-	blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: r.Rows, Cols: len(b), Stride: r.Stride, Data: r.Data},
-		blas64.Vector{N: len(b), Inc: 1, Data: b}, 0, blas64.Vector{N: r.Rows, Inc: 1, Data: out})
-	return out
 }
 
 // validValues returns the indices of the nonzero entries of ns and those

@@ -188,7 +188,7 @@ func TestRandomFeaturesNested(t *testing.T) {
 func TestRandomFeaturesBruteForce(t *testing.T) {
 	const n, d = 60, 3
 	x, y := gaussian(11, n, d)
-	test, _ := gaussian(12, 25, d)
+	test, _ := gaussian(12, 300, d) // two blocks of predictions (predictBlock)
 	for _, act := range []string{ActivationReLU, ActivationFourier} {
 		for _, lambda := range []float64{0, 0.01} {
 			rf := &RandomFeatures{Scale: 1.5, Activation: act, Lambda: lambda}
