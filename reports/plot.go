@@ -37,10 +37,12 @@ type Figure struct {
 //   - risk-K-LABEL and split-K-LABEL: the same for model K alone (K from 1).
 //
 // With a single model the "-all" figures would repeat the per-model ones
-// and are left out. A model with no successful fit at any grid value gets
-// no figure of its own. Every figure carries a caption with the spec name,
-// the short hash and the engine, and says in words how to read it (bands,
-// markers, clamped values). Figures never refits anything.
+// and are left out. A two-axis result has one curve per model and outer
+// value; it gets the per-model figures only, each with one curve (one
+// split panel) per outer value. A model with no successful fit at any grid
+// value gets no figure of its own. Every figure carries a caption with the
+// spec name, the short hash and the engine, and says in words how to read
+// it (bands, markers, clamped values). Figures never refits anything.
 func Figures(r *runner.Result) ([]Figure, error) {
 	if err := check(r); err != nil {
 		return nil, err
@@ -58,29 +60,61 @@ func Figures(r *runner.Result) ([]Figure, error) {
 		figs = append(figs, Figure{Name: name, Title: title, SVG: svg, PNG: png})
 		return nil
 	}
-	all := make([]int, len(r.Models))
-	for i := range all {
-		all[i] = i
+	sets := curveSets(r)
+	if r.OuterParam == "" && len(r.Models) > 1 {
+		all := curveSet{title: "all models"}
+		for i := range r.Models {
+			all.curves = append(all.curves, i)
+			all.keys = append(all.keys, r.Models[i].Label)
+		}
+		if err := add("risk-all", "risk against "+g.symbol+", all models", riskFigure(r, g, all)); err != nil {
+			return nil, err
+		}
+		if err := add("split-all", "bias², variance and noise against "+g.symbol+", all models", splitFigure(r, g, all)); err != nil {
+			return nil, err
+		}
 	}
-	if len(r.Models) > 1 {
-		if err := add("risk-all", "risk against "+g.xName+", all models", riskFigure(r, g, all)); err != nil {
+	for k, cs := range sets {
+		base := fmt.Sprintf("%d-%s", k+1, slug(cs.title))
+		if err := add("risk-"+base, "risk against "+g.symbol+", "+cs.title, riskFigure(r, g, cs)); err != nil {
 			return nil, err
 		}
-		if err := add("split-all", "bias², variance and noise against "+g.xName+", all models", splitFigure(r, g, all)); err != nil {
-			return nil, err
-		}
-	}
-	for i := range r.Models {
-		m := &r.Models[i]
-		base := fmt.Sprintf("%d-%s", i+1, slug(m.Label))
-		if err := add("risk-"+base, "risk against "+g.xName+", "+m.Label, riskFigure(r, g, []int{i})); err != nil {
-			return nil, err
-		}
-		if err := add("split-"+base, "bias², variance and noise against "+g.xName+", "+m.Label, splitFigure(r, g, []int{i})); err != nil {
+		if err := add("split-"+base, "bias², variance and noise against "+g.symbol+", "+cs.title, splitFigure(r, g, cs)); err != nil {
 			return nil, err
 		}
 	}
 	return figs, nil
+}
+
+// curveSet is the curves one figure shows: indices into Result.Models,
+// the legend key (or panel title) of each, and what the set is.
+type curveSet struct {
+	title  string // "all models", or the model label
+	curves []int
+	keys   []string
+}
+
+// curveSets returns one set per model: its curve alone, or on a two-axis
+// grid its curves at every outer value, keyed "n_train = 50".
+func curveSets(r *runner.Result) []curveSet {
+	var sets []curveSet
+	at := map[string]int{}
+	for i := range r.Models {
+		m := &r.Models[i]
+		k, ok := at[m.Label]
+		if !ok {
+			k = len(sets)
+			at[m.Label] = k
+			sets = append(sets, curveSet{title: m.Label})
+		}
+		key := m.Label
+		if m.Outer != nil {
+			key = fmt.Sprintf("%s = %s", symbolOf(r.OuterParam), knob(*m.Outer))
+		}
+		sets[k].curves = append(sets[k].curves, i)
+		sets[k].keys = append(sets[k].keys, key)
+	}
+	return sets
 }
 
 // slug makes a file-name part of a model label: lower-case ASCII letters and
@@ -111,23 +145,15 @@ func slug(label string) string {
 type geometry struct {
 	xName  string // axis label of the grid value
 	symbol string // short symbol of the knob ("p", "n", "λ")
-	logX   bool
-	dim    int // features available, 0 when unknown
+	logX   bool   // log x axis
+	log1pX bool   // log(1 + x) x axis: a log-spaced grid that starts at 0
+	dim    int    // features available, 0 when unknown
 	icept  map[string]bool
 }
 
 func newGeometry(r *runner.Result) geometry {
 	g := geometry{icept: map[string]bool{}}
-	switch r.Param {
-	case "features":
-		g.xName, g.symbol = "features p (input columns used)", "p"
-	case "n_train":
-		g.xName, g.symbol = "training-set size n", "n"
-	case "lambda":
-		g.xName, g.symbol = "ridge penalty λ", "λ"
-	default:
-		g.xName, g.symbol = r.Param, r.Param
-	}
+	g.xName, g.symbol = knobName(r.Param), symbolOf(r.Param)
 	var xs []float64
 	for _, m := range r.Models {
 		for _, p := range m.Points {
@@ -135,6 +161,10 @@ func newGeometry(r *runner.Result) geometry {
 		}
 	}
 	g.logX = logSpaced(xs)
+	g.log1pX = !g.logX && log1pSpaced(xs)
+	if g.log1pX {
+		g.xName += " (axis: log of 1 + " + g.symbol + ")"
+	}
 	// The resolved spec names the dimension (generator) or the feature
 	// columns (csv) and each model's intercept. A result whose spec text
 	// does not decode just has no known dimension.
@@ -178,6 +208,22 @@ func logSpaced(vs []float64) bool {
 		logs[i] = math.Log(v)
 	}
 	return rankFit(logs) > rankFit(u)
+}
+
+// log1pSpaced reports whether a grid that starts at 0 (0 steps, degree 0)
+// reads better on a log(1 + x) axis: the values are ≥ 0, the positive ones
+// span at least a factor of 10, there are at least 4, and log(1 + x) is
+// closer to evenly spaced than x (as in logSpaced).
+func log1pSpaced(vs []float64) bool {
+	u := distinct(vs)
+	if len(u) < 4 || u[0] != 0 || math.IsInf(u[len(u)-1], 0) || u[len(u)-1]/u[1] < 10 {
+		return false
+	}
+	l := make([]float64, len(u))
+	for i, v := range u {
+		l[i] = math.Log1p(v)
+	}
+	return rankFit(l) > rankFit(u)
 }
 
 // distinct returns the sorted distinct finite values of vs.
@@ -265,42 +311,59 @@ func (s yScale) at(y float64) (v float64, clamped bool) {
 type threshold struct {
 	x     float64
 	label string
+	curve int // the figure's curve it belongs to (set by thresholds)
+	// empirical is set when x is where half the seeds were seen to
+	// interpolate, not where the parameters reach the sample size.
+	empirical bool
 }
 
-// interpThreshold returns the interpolation threshold of model m:
+// interpThreshold returns the interpolation threshold of curve m, for a
+// family linear in its features (linearInFeatures; k = 1 with an intercept,
+// else 0):
 //
-//   - features grid: p = n_train, or p + 1 = n_train with an intercept;
-//   - n_train grid, the number of features d known: n = d (n = d + 1);
-//   - otherwise the first grid value, in order of growing capacity
-//     (decreasing λ on a penalty grid), at which at least half the seeds
-//     interpolate; none when no value does.
+//   - features grid: p + k = n, n the curve's training-set size (the outer
+//     value on a features × n_train grid);
+//   - n_train grid, the number of input columns d known (the outer value on
+//     an n_train × features grid), for a family on input columns: n = d + k;
+//
+// and otherwise the first grid value, in order of growing capacity
+// (decreasing λ, bandwidth or k), at which at least half the seeds
+// interpolate; none when no value does.
 func interpThreshold(r *runner.Result, g geometry, m *runner.ModelResult) (threshold, bool) {
 	k := 0
 	if g.icept[m.Label] {
 		k = 1
 	}
+	n, d := r.NTrain, g.dim
+	if m.Outer != nil {
+		switch r.OuterParam {
+		case "n_train":
+			n = int(*m.Outer)
+		case "features":
+			d = int(*m.Outer)
+		}
+	}
 	switch {
-	case r.Param == "features" && r.NTrain > 0:
+	case r.Param == "features" && n > 0 && linearInFeatures[m.Family]:
 		if k == 1 {
-			return threshold{float64(r.NTrain - 1), fmt.Sprintf("p + 1 = n = %d", r.NTrain)}, true
+			return threshold{x: float64(n - 1), label: fmt.Sprintf("p + 1 = n = %d", n)}, true
 		}
-		return threshold{float64(r.NTrain), fmt.Sprintf("p = n = %d", r.NTrain)}, true
-	case r.Param == "n_train" && g.dim > 0:
+		return threshold{x: float64(n), label: fmt.Sprintf("p = n = %d", n)}, true
+	case r.Param == "n_train" && d > 0 && linearInFeatures[m.Family] && m.Family != "random-features":
 		if k == 1 {
-			return threshold{float64(g.dim + 1), fmt.Sprintf("n = p + 1 = %d", g.dim+1)}, true
+			return threshold{x: float64(d + 1), label: fmt.Sprintf("n = p + 1 = %d", d+1)}, true
 		}
-		return threshold{float64(g.dim), fmt.Sprintf("n = p = %d", g.dim)}, true
+		return threshold{x: float64(d), label: fmt.Sprintf("n = p = %d", d)}, true
 	}
 	if i := firstInterpolating(r, m); i >= 0 {
-		return threshold{m.Points[i].Value, fmt.Sprintf("half the seeds interpolate from %s = %s", symbolOf(r.Param), knob(m.Points[i].Value))}, true
+		return threshold{x: m.Points[i].Value, label: fmt.Sprintf("%s = %s (half interpolate)", symbolOf(r.Param), knob(m.Points[i].Value)), empirical: true}, true
 	}
 	return threshold{}, false
 }
 
 // firstInterpolating returns the index of the first point, in order of
 // growing capacity, where at least half the seeds interpolate, or -1.
-// Capacity grows with the knob except on a penalty grid, where it grows as
-// λ falls.
+// Capacity grows with the knob except where capacityFalls says it falls.
 func firstInterpolating(r *runner.Result, m *runner.ModelResult) int {
 	idx := make([]int, len(m.Points))
 	for i := range idx {
@@ -308,7 +371,7 @@ func firstInterpolating(r *runner.Result, m *runner.ModelResult) int {
 	}
 	sort.SliceStable(idx, func(a, b int) bool {
 		va, vb := m.Points[idx[a]].Value, m.Points[idx[b]].Value
-		if r.Param == "lambda" {
+		if capacityFalls[r.Param] {
 			return va > vb
 		}
 		return va < vb
@@ -321,6 +384,7 @@ func firstInterpolating(r *runner.Result, m *runner.ModelResult) int {
 	return -1
 }
 
+// symbolOf is the short symbol of a knob on an axis or in a label.
 func symbolOf(param string) string {
 	switch param {
 	case "features":
@@ -329,8 +393,45 @@ func symbolOf(param string) string {
 		return "n"
 	case "lambda":
 		return "λ"
+	case "neighbours":
+		return "k"
 	}
 	return param
+}
+
+// knobName is the x-axis label of a knob, with its meaning.
+func knobName(param string) string {
+	switch param {
+	case "features":
+		return "features p"
+	case "n_train":
+		return "training-set size n"
+	case "lambda":
+		return "penalty λ"
+	case "degree":
+		return "polynomial degree"
+	case "bandwidth":
+		return "kernel bandwidth"
+	case "neighbours":
+		return "neighbours k"
+	case "steps":
+		return "gradient steps"
+	case "width":
+		return "hidden units (width)"
+	}
+	return param
+}
+
+// capacityFalls lists the knobs along which capacity falls as the value
+// grows: a larger penalty, bandwidth or neighbourhood fits less.
+var capacityFalls = map[string]bool{"lambda": true, "bandwidth": true, "neighbours": true}
+
+// linearInFeatures lists the families whose fit interpolates once its
+// parameters (features, plus the intercept) reach the training-set size:
+// linear least squares and its penalised and iterative versions, on input
+// columns or on random features.
+var linearInFeatures = map[string]bool{
+	"least-squares": true, "ridge": true, "gradient-descent": true, "random-features": true,
 }
 
 // heavyCount is the number of largest seeds that carry half the total risk

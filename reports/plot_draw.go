@@ -168,6 +168,23 @@ func newLegend() plot.Legend {
 	return l
 }
 
+// maxKeyWidth bounds the text of a legend entry, so that the legend column
+// leaves the panel most of the figure's width.
+const maxKeyWidth = 2.9 * vg.Inch
+
+// addKey adds a legend entry, its text cut with "…" to maxKeyWidth (the
+// caption and the tables carry the full names).
+func addKey(l *plot.Legend, txt string, thumbs ...plot.Thumbnailer) {
+	if l.TextStyle.Width(txt) > maxKeyWidth {
+		r := []rune(txt)
+		for len(r) > 1 && l.TextStyle.Width(string(r)+"…") > maxKeyWidth {
+			r = r[:len(r)-1]
+		}
+		txt = strings.TrimSpace(string(r)) + "…"
+	}
+	l.Add(txt, thumbs...)
+}
+
 // newPanel makes an empty panel with the grid's x axis and the given y axis.
 func newPanel(g geometry, ys yScale, yLabel string) *plot.Plot {
 	p := plot.New()
@@ -180,9 +197,13 @@ func newPanel(g geometry, ys yScale, yLabel string) *plot.Plot {
 	p.X.Tick.Label.Font = font.From(sans, 9)
 	p.Y.Tick.Label.Font = font.From(sans, 9)
 	p.X.Tick.Marker, p.Y.Tick.Marker = linearTicks{}, linearTicks{}
-	if g.logX {
+	switch {
+	case g.logX:
 		p.X.Scale = plot.LogScale{}
 		p.X.Tick.Marker = logTicks{}
+	case g.log1pX:
+		p.X.Scale = log1pScale{}
+		p.X.Tick.Marker = log1pTicks{}
 	}
 	if ys.log {
 		p.Y.Scale = plot.LogScale{}
@@ -221,19 +242,26 @@ func fixRanges(p *plot.Plot, g geometry, ys yScale) {
 // It is added before the data so that curves are drawn over it, and has no
 // data range: it marks x without widening the y axis. The caller keeps x
 // inside the x range.
-type vrule struct{ x float64 }
+type vrule struct {
+	x float64
+	c color.Color
+}
 
-var ruleStyle = lineStyle(color.Gray{0x70}, 1.1, []vg.Length{vg.Points(6), vg.Points(2.5), vg.Points(1.2), vg.Points(2.5)})
+var ruleGrey = color.Gray{0x70}
+
+func (v vrule) style() draw.LineStyle {
+	return lineStyle(v.c, 1.1, []vg.Length{vg.Points(6), vg.Points(2.5), vg.Points(1.2), vg.Points(2.5)})
+}
 
 func (v vrule) Plot(c draw.Canvas, p *plot.Plot) {
 	tx, _ := p.Transforms(&c)
 	x := tx(v.x)
-	c.StrokeLine2(ruleStyle, x, c.Min.Y, x, c.Max.Y)
+	c.StrokeLine2(v.style(), x, c.Min.Y, x, c.Max.Y)
 }
 
 func (v vrule) Thumbnail(c *draw.Canvas) {
 	y := (c.Min.Y + c.Max.Y) / 2
-	c.StrokeLine2(ruleStyle, c.Min.X, y, c.Max.X, y)
+	c.StrokeLine2(v.style(), c.Min.X, y, c.Max.X, y)
 }
 
 func lineStyle(c color.Color, width float64, dashes []vg.Length) draw.LineStyle {
@@ -371,6 +399,8 @@ func (logTicks) Ticks(lo, hi float64) []plot.Tick {
 	if decades > 8 {
 		step = 2
 	}
+	// Past six decades the minor ticks would merge into a bar: powers only.
+	minor := decades <= 6
 	var ticks []plot.Tick
 	for e := int(math.Floor(math.Log10(lo))); e <= int(math.Ceil(math.Log10(hi))); e++ {
 		for m := 1; m <= 9; m++ {
@@ -381,6 +411,9 @@ func (logTicks) Ticks(lo, hi float64) []plot.Tick {
 			t := plot.Tick{Value: v}
 			if label[m] && (m != 1 || e%step == 0) {
 				t.Label = num(v)
+			}
+			if t.Label == "" && !minor && m != 1 {
+				continue
 			}
 			ticks = append(ticks, t)
 		}
@@ -429,4 +462,24 @@ func (linearTicks) Ticks(lo, hi float64) []plot.Tick {
 		ticks = append(ticks, plot.Tick{Value: first*step - step/2})
 	}
 	return ticks
+}
+
+// log1pScale maps x to log(1 + x), normalised to [0, 1] over [min, max]:
+// a logarithmic axis that also shows 0.
+type log1pScale struct{}
+
+func (log1pScale) Normalize(min, max, x float64) float64 {
+	lo, hi := math.Log1p(min), math.Log1p(max)
+	return (math.Log1p(x) - lo) / (hi - lo)
+}
+
+// log1pTicks labels a log(1 + x) axis at 0 and as logTicks does above 1.
+type log1pTicks struct{}
+
+func (log1pTicks) Ticks(lo, hi float64) []plot.Tick {
+	var ticks []plot.Tick
+	if lo <= 0 && hi >= 0 {
+		ticks = append(ticks, plot.Tick{Value: 0, Label: "0"})
+	}
+	return append(ticks, logTicks{}.Ticks(math.Max(lo, 1), hi)...)
 }

@@ -25,7 +25,8 @@ const riskFloorGap = 100
 // with its q1–q3 bar instead of the band, the training risk, and the theory
 // curve where the result carries one; the interpolation threshold as a
 // vertical line. It returns nil when no model has a finite risk.
-func riskFigure(r *runner.Result, g geometry, ms []int) *figure {
+func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
+	ms := cs.curves
 	var main []float64
 	xlo, xhi := math.Inf(1), math.Inf(-1)
 	for _, mi := range ms {
@@ -61,21 +62,29 @@ func riskFigure(r *runner.Result, g geometry, ms []int) *figure {
 		p.Y.Label.Text = fmt.Sprintf("test risk (mean squared error on %d held-out points)", r.TestPoints)
 	}
 	single := len(ms) == 1
-	if single {
-		p.Title.Text = r.Models[ms[0]].Label + ": risk against " + g.symbol
-	} else {
+	if cs.title == "all models" {
 		p.Title.Text = "risk against " + g.symbol + ", all models"
+	} else {
+		p.Title.Text = cs.title + ": risk against " + g.symbol
 	}
-	// The threshold goes first so that every curve is drawn over it.
+	// The threshold goes first so that every curve is drawn over it; in
+	// the colour of its curve when the curves have thresholds of their own.
 	var rules []plot.Thumbnailer
 	var ruleLabels, outside []string
-	for _, t := range thresholds(r, g, ms) {
+	ths := thresholds(r, g, ms)
+	empirical := false
+	for _, t := range ths {
+		empirical = empirical || t.empirical
 		if t.x < xlo || t.x > xhi {
 			outside = append(outside, t.label)
 			continue
 		}
-		p.Add(vrule{t.x})
-		rules = append(rules, vrule{t.x})
+		v := vrule{x: t.x, c: ruleGrey}
+		if len(ths) > 1 {
+			v.c = modelPalette(t.curve, false).risk
+		}
+		p.Add(v)
+		rules = append(rules, v)
 		ruleLabels = append(ruleLabels, t.label)
 	}
 
@@ -101,7 +110,7 @@ func riskFigure(r *runner.Result, g geometry, ms []int) *figure {
 		train = train || len(s.train) > 0
 		bars = bars || len(s.bandBars) > 0
 		if !single {
-			leg.Add(m.Label, &swatch{pal.risk})
+			addKey(&leg, cs.keys[k], &swatch{pal.risk})
 		}
 		// Bands first, so the lines stay on top.
 		for _, seg := range s.band {
@@ -134,24 +143,28 @@ func riskFigure(r *runner.Result, g geometry, ms []int) *figure {
 		}
 	}
 	one := plotter.XYs{{X: 0, Y: 0}}
-	leg.Add("risk: mean ± 2 SE", band(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}, {X: 1, Y: 1}}, withAlpha(key.risk, bandAlpha)),
+	addKey(&leg, "risk: mean ± 2 SE", band(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}, {X: 1, Y: 1}}, withAlpha(key.risk, bandAlpha)),
 		line(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}}, riskLine(key)), glyphs(one, draw.CircleGlyph{}, key.risk, 2.2))
 	if heavy {
-		leg.Add("mean, heavy-tailed point", glyphs(one, draw.RingGlyph{}, key.risk, 3.2))
-		leg.Add("median and q1–q3 there", quartileBars(nil, key.median), glyphs(one, diamondGlyph{}, key.median, 3.4))
+		addKey(&leg, "mean, heavy-tailed point", glyphs(one, draw.RingGlyph{}, key.risk, 3.2))
+		addKey(&leg, "median and q1–q3 there", quartileBars(nil, key.median), glyphs(one, diamondGlyph{}, key.median, 3.4))
 	}
 	if theory {
-		leg.Add("theory: exact expected risk", line(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}}, theoryLine(key)))
+		addKey(&leg, "theory: exact expected risk", line(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}}, theoryLine(key)))
 	}
 	if train || trainClamped {
 		th := []plot.Thumbnailer{line(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}}, trainLine(key)), glyphs(one, draw.BoxGlyph{}, key.train, 1.8)}
-		leg.Add("training risk", th...)
+		addKey(&leg, "training risk", th...)
 	}
 	if trainClamped {
-		leg.Add("training risk below the axis", glyphs(one, downTriangle{}, key.train, 3))
+		addKey(&leg, "training risk below the axis", glyphs(one, downTriangle{}, key.train, 3))
 	}
-	for i, t := range rules {
-		leg.Add("threshold "+ruleLabels[i], t)
+	switch {
+	case len(rules) == 1:
+		addKey(&leg, "threshold "+ruleLabels[0], rules[0])
+	case len(rules) > 1:
+		// One key for all: each line has its curve's colour.
+		addKey(&leg, "threshold of each curve", vrule{c: ruleGrey})
 	}
 	fixRanges(p, g, ys)
 
@@ -183,6 +196,13 @@ func riskFigure(r *runner.Result, g geometry, ms []int) *figure {
 			note += "; " + strings.Join(what, " and ") + " below " + num(ys.floor) + " are drawn at " + num(ys.floor) + ", the bottom of the axis"
 		}
 		cap = append(cap, note+".")
+	}
+	if len(rules) > 1 {
+		cap = append(cap, "Dash-dotted, in each curve's colour: its interpolation threshold ("+strings.Join(ruleLabels, "; ")+").")
+	}
+	if empirical {
+		cap = append(cap, fmt.Sprintf("\"Half interpolate\": the first grid value, in order of growing capacity, at which at least half the seeds fit "+
+			"the training sample exactly (training risk below %s times the mean squared response).", num(runner.InterpTol)))
 	}
 	if len(outside) > 0 {
 		cap = append(cap, "Interpolation threshold outside the grid: "+strings.Join(outside, "; ")+".")
@@ -305,16 +325,18 @@ func runs(pts []runner.Point, f func(*runner.Point) (float64, bool)) []plotter.X
 	return out
 }
 
-// thresholds returns the distinct interpolation thresholds of the models.
+// thresholds returns the distinct interpolation thresholds of the curves,
+// each with the position in ms of the first curve that has it.
 func thresholds(r *runner.Result, g geometry, ms []int) []threshold {
 	var out []threshold
 	seen := map[float64]bool{}
-	for _, mi := range ms {
+	for k, mi := range ms {
 		t, ok := interpThreshold(r, g, &r.Models[mi])
 		if !ok || seen[t.x] {
 			continue
 		}
 		seen[t.x] = true
+		t.curve = k
 		out = append(out, t)
 	}
 	return out

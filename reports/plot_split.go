@@ -27,7 +27,8 @@ var (
 // A negative bias² estimate is stacked as 0 and named in the caption; under
 // a lumped split the bottom band is bias² + noise. It returns nil when no
 // model has a complete split at any grid value.
-func splitFigure(r *runner.Result, g geometry, ms []int) *figure {
+func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
+	ms := cs.curves
 	lumped := r.SplitBasis == runner.SplitLumped
 	var panels []*plot.Plot
 	var negatives []string
@@ -41,7 +42,7 @@ func splitFigure(r *runner.Result, g geometry, ms []int) *figure {
 		}
 	}
 	logY := newYScale(totals, 1).log
-	for _, mi := range ms {
+	for k, mi := range ms {
 		m := &r.Models[mi]
 		st := stackSeries(m, lumped, logY)
 		if len(st.runs) == 0 {
@@ -51,9 +52,13 @@ func splitFigure(r *runner.Result, g geometry, ms []int) *figure {
 		if r.RiskBasis == runner.RiskTestSet {
 			p.Y.Label.Text = "test risk and its parts (squared error)"
 		}
-		p.Title.Text = m.Label + ": bias², variance and noise against " + g.symbol
-		if len(ms) > 1 {
-			p.Title.Text = m.Label
+		name := cs.keys[k]
+		if m.Outer != nil {
+			name = m.Label + ", " + name
+		}
+		p.Title.Text = name
+		if len(ms) == 1 {
+			p.Title.Text += ": bias², variance and noise against " + g.symbol
 		}
 		for _, run := range st.runs {
 			for layer, c := range []color.Color{noiseColor, biasColor, varColor} {
@@ -74,7 +79,7 @@ func splitFigure(r *runner.Result, g geometry, ms []int) *figure {
 			heavy = true
 		}
 		for _, n := range st.negative {
-			negatives = append(negatives, fmt.Sprintf("%s at %s = %s: %s", m.Label, g.symbol, knob(n.X), num(n.Y)))
+			negatives = append(negatives, fmt.Sprintf("%s at %s = %s: %s", m.Label+atOuter(r, m), g.symbol, knob(n.X), num(n.Y)))
 		}
 		logAny = logAny || st.ys.log
 		clamped = clamped || st.clamped
@@ -85,18 +90,18 @@ func splitFigure(r *runner.Result, g geometry, ms []int) *figure {
 		return nil
 	}
 	leg := newLegend()
-	leg.Add("variance", &plotter.Polygon{Color: varColor})
+	addKey(&leg, "variance", &plotter.Polygon{Color: varColor})
 	if lumped {
-		leg.Add("bias² + noise (truth unknown)", &plotter.Polygon{Color: noiseColor})
+		addKey(&leg, "bias² + noise (truth unknown)", &plotter.Polygon{Color: noiseColor})
 	} else {
-		leg.Add("bias²", &plotter.Polygon{Color: biasColor})
-		leg.Add("noise σ²", &plotter.Polygon{Color: noiseColor})
+		addKey(&leg, "bias²", &plotter.Polygon{Color: biasColor})
+		addKey(&leg, "noise σ²", &plotter.Polygon{Color: noiseColor})
 	}
 	total, _ := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}})
 	total.LineStyle = lineStyle(color.Black, 1.6, nil)
-	leg.Add("total = mean risk", total, glyphs(plotter.XYs{{X: 0, Y: 0}}, draw.CircleGlyph{}, color.Black, 2.2))
+	addKey(&leg, "total = mean risk", total, glyphs(plotter.XYs{{X: 0, Y: 0}}, draw.CircleGlyph{}, color.Black, 2.2))
 	if heavy {
-		leg.Add("total, heavy-tailed (unstable)", glyphs(plotter.XYs{{X: 0, Y: 0}}, draw.RingGlyph{}, color.Black, 3.4))
+		addKey(&leg, "total, heavy-tailed (unstable)", glyphs(plotter.XYs{{X: 0, Y: 0}}, draw.RingGlyph{}, color.Black, 3.4))
 	}
 
 	var cap []string

@@ -135,7 +135,7 @@ func TestSplitNegativeBiasOnLogAxis(t *testing.T) {
 			}
 		}
 	}
-	f := splitFigure(r, newGeometry(r), []int{0})
+	f := splitFigure(r, newGeometry(r), oneCurve(r, 0))
 	if f == nil {
 		t.Fatal("no split figure")
 	}
@@ -155,7 +155,7 @@ func TestSplitNegativeBiasOnLogAxis(t *testing.T) {
 // the heavy-tailed point leaves the mean line and gets its quartiles.
 func TestRiskLogAxisClampsAndHeavyTail(t *testing.T) {
 	r := synthetic()
-	f := riskFigure(r, newGeometry(r), []int{0})
+	f := riskFigure(r, newGeometry(r), oneCurve(r, 0))
 	if f == nil {
 		t.Fatal("no risk figure")
 	}
@@ -246,6 +246,7 @@ func TestLogSpaced(t *testing.T) {
 func TestInterpThreshold(t *testing.T) {
 	r := synthetic()
 	r.Param = "features"
+	r.Models[0].Family = "least-squares"
 	r.SpecTOML = "[data]\ndim = 300\n[[model]]\nlabel = \"min-norm\"\nintercept = false\n[[model]]\nlabel = \"ridge λ=0.1\"\nintercept = true\n"
 	g := newGeometry(r)
 	if th, ok := interpThreshold(r, g, &r.Models[0]); !ok || th.x != 50 || th.label != "p = n = 50" {
@@ -258,6 +259,24 @@ func TestInterpThreshold(t *testing.T) {
 	if th, ok := interpThreshold(r, g, &r.Models[0]); !ok || th.x != 300 || th.label != "n = p = 300" {
 		t.Errorf("n_train grid: %+v %v, want n = 300", th, ok)
 	}
+	// Two-axis grids: the curve's own outer value.
+	n40 := 40.0
+	r.Models[0].Outer = &n40
+	r.OuterParam = "features"
+	if th, ok := interpThreshold(r, g, &r.Models[0]); !ok || th.x != 40 {
+		t.Errorf("n_train × features grid at p = 40: %+v %v, want n = 40", th, ok)
+	}
+	r.Param, r.OuterParam = "features", "n_train"
+	if th, ok := interpThreshold(r, g, &r.Models[0]); !ok || th.x != 40 || th.label != "p = n = 40" {
+		t.Errorf("features × n_train grid at n = 40: %+v %v, want p = n = 40", th, ok)
+	}
+	r.Models[0].Outer, r.OuterParam = nil, ""
+	// p = n means nothing to a nearest-neighbour average: the fallback.
+	r.Models[0].Family = "nearest-neighbours"
+	if th, ok := interpThreshold(r, g, &r.Models[0]); !ok || th.label != "p = 50 (half interpolate)" || !th.empirical {
+		t.Errorf("nearest-neighbours on a features grid: %+v %v, want the fallback", th, ok)
+	}
+	r.Models[0].Family = "least-squares"
 	// Without a known dimension: the first value where half the seeds
 	// interpolate (p = 50 in the fixture), in order of growing capacity.
 	r.SpecTOML = ""
@@ -321,4 +340,8 @@ func TestLinearTicks(t *testing.T) {
 	if got := strings.Join(labels, " "); got != "0.0 0.5 1.0 1.5 2.0 2.5" {
 		t.Errorf("labels over [0, 2.7]: %q", got)
 	}
+}
+
+func oneCurve(r *runner.Result, i int) curveSet {
+	return curveSet{title: r.Models[i].Label, curves: []int{i}, keys: []string{r.Models[i].Label}}
 }
