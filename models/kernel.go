@@ -61,7 +61,8 @@ func init() {
 //
 // Each fit reports:
 //
-//	Pred      = K_test α at the rows of Train.Test (nil without them)
+//	Pred      = K_test α at the rows of Train.Test (nil without them), formed
+//	            one test row at a time: memory O(n²), not O(n·m)
 //	TrainRisk = (1/n)‖y − Kα‖² = (1/n)‖nλα‖²
 //	Norm      = ‖f̂‖_H = √(αᵀKα)
 //	DF        = tr(K(K + nλI)⁻¹) = Σ_j μ_j/(μ_j + nλ), μ_j the eigenvalues of K
@@ -177,6 +178,8 @@ func (kr *KernelRidge) Path(t *Train, knob string, values []float64) []Fit {
 		return fits
 	}
 	var w kernelSolver
+	w.alphas = make([][]float64, len(values))
+	hs := make([]float64, len(values)) // the bandwidth of each fit
 	switch knob {
 	case spec.ParamLambda:
 		km := w.matrices(t, ds, kind, kr.Bandwidth)
@@ -187,14 +190,16 @@ func (kr *KernelRidge) Path(t *Train, knob string, values []float64) []Fit {
 		}
 		for i, v := range values {
 			if fits[i].Err == nil {
-				w.eigenFit(e, km, rows, v, &fits[i])
+				w.alphas[i] = w.eigenFit(e, km, rows, v, &fits[i])
+				hs[i] = kr.Bandwidth
 			}
 		}
 	case spec.ParamBandwidth:
 		for i, h := range values {
 			if fits[i].Err == nil {
 				km := w.matrices(t, ds, kind, h)
-				w.single(km, rows, kr.Lambda, &fits[i])
+				w.alphas[i] = w.single(km, rows, kr.Lambda, &fits[i])
+				hs[i] = h
 			}
 		}
 	case spec.ParamNTrain:
@@ -202,69 +207,122 @@ func (kr *KernelRidge) Path(t *Train, knob string, values []float64) []Fit {
 		km := w.matrices(t, ds, kind, kr.Bandwidth)
 		for i, n := range ns {
 			if n > 0 {
-				w.single(km, n, kr.Lambda, &fits[i])
+				w.alphas[i] = w.single(km, n, kr.Lambda, &fits[i])
+				hs[i] = kr.Bandwidth
 			}
 		}
+	}
+	if ds.m > 0 {
+		w.predict(t, kind, hs, fits)
 	}
 	return fits
 }
 
 // kernelMats holds K over all N training rows (N×N, row-major, both
-// triangles) and K_test (M×N, nil without test inputs) for one bandwidth.
-// The fit on the first n rows uses the leading n×n block of K and the first
-// n columns of K_test, both with stride N.
+// triangles) for one bandwidth. The fit on the first n rows uses its
+// leading n×n block, with stride N.
 type kernelMats struct {
-	n, m   int
-	k, kt  []float64
+	n      int
+	k      []float64
 	y      []float64
 	stride int
 }
 
-// kernelSolver holds the scratch buffers of one KernelRidge path.
+// kernelSolver holds the scratch buffers of one KernelRidge path, and the
+// dual coefficients α of each fit (nil for a failed one) until the
+// predictions are made.
 type kernelSolver struct {
 	solver
-	k, kt        []float64
+	k            []float64
 	q, mu, qty   []float64 // eigenvectors (columns), eigenvalues, Qᵀy
 	coef, kalpha []float64
 	mats         kernelMats
 	eig          kernelEigen
+	alphas       [][]float64
 }
 
-// matrices fills K and K_test for bandwidth h from the squared distances
-// (for the linear kernel, from the inputs).
-func (w *kernelSolver) matrices(t *Train, ds *distances, kind string, h float64) *kernelMats {
-	n, m := ds.n, ds.m
-	km := &w.mats
-	*km = kernelMats{n: n, m: m, y: t.Y, stride: n, k: grow(&w.k, n*n)}
-	if m > 0 {
-		km.kt = grow(&w.kt, m*n)
-	}
+// kernelValues overwrites the squared distances (for the linear kernel,
+// the inner products) in v with the kernel's values at bandwidth h.
+func kernelValues(kind string, h float64, v []float64) {
 	switch kind {
 	case KernelGaussian:
 		c := -1 / (2 * h * h)
-		for i, d := range ds.train {
-			km.k[i] = math.Exp(c * d)
-		}
-		for i, d := range ds.test {
-			km.kt[i] = math.Exp(c * d)
+		for i, d := range v {
+			v[i] = math.Exp(c * d)
 		}
 	case KernelLaplace:
 		c := -1 / h
-		for i, d := range ds.train {
-			km.k[i] = math.Exp(c * math.Sqrt(d))
-		}
-		for i, d := range ds.test {
-			km.kt[i] = math.Exp(c * math.Sqrt(d))
-		}
-	case kernelLinear:
-		x := t.X.RawMatrix()
-		blas64.Gemm(blas.NoTrans, blas.Trans, 1, x, x, 0, blas64.General{Rows: n, Cols: n, Stride: n, Data: km.k})
-		if m > 0 {
-			blas64.Gemm(blas.NoTrans, blas.Trans, 1, t.Test.RawMatrix(), x, 0,
-				blas64.General{Rows: m, Cols: n, Stride: n, Data: km.kt})
+		for i, d := range v {
+			v[i] = math.Exp(c * math.Sqrt(d))
 		}
 	}
+}
+
+// matrices fills K for bandwidth h from the squared distances (for the
+// linear kernel, from the inputs).
+func (w *kernelSolver) matrices(t *Train, ds *distances, kind string, h float64) *kernelMats {
+	n := ds.n
+	km := &w.mats
+	*km = kernelMats{n: n, y: t.Y, stride: n, k: grow(&w.k, n*n)}
+	if kind == kernelLinear {
+		x := t.X.RawMatrix()
+		blas64.Gemm(blas.NoTrans, blas.Trans, 1, x, x, 0, blas64.General{Rows: n, Cols: n, Stride: n, Data: km.k})
+		return km
+	}
+	copy(km.k, ds.train)
+	kernelValues(kind, h, km.k)
 	return km
+}
+
+// predict sets Pred of every fit with dual coefficients: f(z_j) =
+// Σ_i k(z_j, x_i) α_i over the fit's training rows, one test row at a time
+// (its distances once, its kernel values once per bandwidth), so that no
+// M×N test kernel matrix is held. A non-finite prediction turns the fit
+// into an ErrNumerical error.
+func (w *kernelSolver) predict(t *Train, kind string, hs []float64, fits []Fit) {
+	m, _ := t.Test.Dims()
+	n := len(t.Y)
+	for v, a := range w.alphas {
+		if a != nil {
+			fits[v].Pred = make([]float64, m)
+		}
+	}
+	dist := make([]float64, n)
+	kv := make([]float64, n)
+	x := t.X.RawMatrix()
+	z := t.Test.RawMatrix()
+	for j := range m {
+		if kind == kernelLinear {
+			blas64.Gemv(blas.NoTrans, 1, x, blas64.Vector{N: x.Cols, Inc: 1, Data: z.Data[j*z.Stride : j*z.Stride+z.Cols]},
+				0, blas64.Vector{N: n, Inc: 1, Data: dist})
+		} else {
+			t.testDists(j, dist)
+		}
+		last := math.NaN()
+		for v, a := range w.alphas {
+			if a == nil {
+				continue
+			}
+			if h := hs[v]; h != last || kind == kernelLinear {
+				copy(kv, dist)
+				kernelValues(kind, h, kv)
+				last = h
+			}
+			fits[v].Pred[j] = blas64.Dot(blas64.Vector{N: len(a), Inc: 1, Data: kv}, blas64.Vector{N: len(a), Inc: 1, Data: a})
+		}
+	}
+	for v, a := range w.alphas {
+		if a == nil {
+			continue
+		}
+		for _, p := range fits[v].Pred {
+			if !kernelFinite(p) {
+				f := &fits[v]
+				*f = Fit{Method: f.Method, Cond: f.Cond, Err: fmt.Errorf("%w: %s gave a non-finite prediction (condition %g)", ErrNumerical, f.Method, f.Cond)}
+				break
+			}
+		}
+	}
 }
 
 // kernelEigen is K_n = Q diag(μ) Qᵀ (μ ascending) with c = Qᵀy.
@@ -305,7 +363,7 @@ func (w *kernelSolver) eigen(km *kernelMats, n int) (*kernelEigen, error) {
 func eigenTol(n int, muMax float64) float64 { return float64(n) * eps * muMax }
 
 // eigenFit fills f with the fit at penalty λ from the eigendecomposition.
-func (w *kernelSolver) eigenFit(e *kernelEigen, km *kernelMats, n int, lambda float64, f *Fit) {
+func (w *kernelSolver) eigenFit(e *kernelEigen, km *kernelMats, n int, lambda float64, f *Fit) []float64 {
 	nl := float64(n) * lambda
 	muMax := e.mu[n-1]
 	coef := grow(&w.coef, n)
@@ -343,12 +401,12 @@ func (w *kernelSolver) eigenFit(e *kernelEigen, km *kernelMats, n int, lambda fl
 	alpha := grow(&w.alpha, n)
 	blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: n, Cols: n, Stride: n, Data: e.q},
 		blas64.Vector{N: n, Inc: 1, Data: coef}, 0, blas64.Vector{N: n, Inc: 1, Data: alpha})
-	w.finish(km, n, alpha, rss, norm2, df, cond, "eigen", f)
+	return w.finish(n, alpha, rss, norm2, df, cond, "eigen", f)
 }
 
 // single fits one λ on the first n rows: Cholesky for λ > 0 when K + nλI is
 // numerically positive definite, the eigendecomposition otherwise.
-func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) {
+func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) []float64 {
 	nl := float64(n) * lambda
 	if nl > 0 {
 		u, cond, ok := w.cholesky(km.k, n, km.stride, nl)
@@ -364,36 +422,33 @@ func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) {
 				blas64.Vector{N: n, Inc: 1, Data: alpha}, 0, blas64.Vector{N: n, Inc: 1, Data: ka})
 			norm2 := blas64.Dot(blas64.Vector{N: n, Inc: 1, Data: alpha}, blas64.Vector{N: n, Inc: 1, Data: ka})
 			if tr, ok := traceInv(u); ok {
-				w.finish(km, n, alpha, rss, norm2, float64(n)-nl*tr, cond, "cholesky", f)
-				return
+				return w.finish(n, alpha, rss, norm2, float64(n)-nl*tr, cond, "cholesky", f)
 			}
 		}
 	}
 	e, err := w.eigen(km, n)
 	if err != nil {
 		f.Err = err
-		return
+		return nil
 	}
-	w.eigenFit(e, km, n, lambda, f)
+	return w.eigenFit(e, km, n, lambda, f)
 }
 
 // finish fills f from the dual coefficients α of the fit on the first n
-// rows: the predictions K_test α, the training risk rss/n, the norm
-// √(αᵀKα), df and cond; a non-finite result is an ErrNumerical error.
-func (w *kernelSolver) finish(km *kernelMats, n int, alpha []float64, rss, norm2, df, cond float64, method string, f *Fit) {
+// rows: the training risk rss/n, the norm √(αᵀKα), df and cond. It returns
+// a copy of α for the predictions, or nil (and an ErrNumerical error in f)
+// when a result is not finite.
+func (w *kernelSolver) finish(n int, alpha []float64, rss, norm2, df, cond float64, method string, f *Fit) []float64 {
 	*f = Fit{TrainRisk: rss / float64(n), Norm: math.Sqrt(max(norm2, 0)), DF: df, Cond: cond, Method: method}
-	if km.kt != nil {
-		f.Pred = make([]float64, km.m)
-		blas64.Gemv(blas.NoTrans, 1, blas64.General{Rows: km.m, Cols: n, Stride: km.stride, Data: km.kt},
-			blas64.Vector{N: n, Inc: 1, Data: alpha}, 0, blas64.Vector{N: km.m, Inc: 1, Data: f.Pred})
-	}
 	bad := !kernelFinite(f.TrainRisk) || !kernelFinite(f.Norm) || !kernelFinite(f.DF)
-	for _, p := range f.Pred {
-		bad = bad || !kernelFinite(p)
+	for _, a := range alpha[:n] {
+		bad = bad || !kernelFinite(a)
 	}
 	if bad {
 		*f = Fit{Method: method, Cond: cond, Err: fmt.Errorf("%w: %s gave a non-finite fit (condition %g)", ErrNumerical, method, cond)}
+		return nil
 	}
+	return append([]float64(nil), alpha[:n]...)
 }
 
 func kernelFinite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }

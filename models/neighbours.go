@@ -102,7 +102,7 @@ func (nb *Neighbours) Path(t *Train, knob string, values []float64) []Fit {
 			failAll(fits, err)
 			return fits
 		}
-		neighboursPath(ds, t.Y, ks, fits)
+		neighboursPath(t, ds, ks, fits)
 	case spec.ParamNTrain:
 		ns, top := counts(fits, knob, values, rows, "rows")
 		for i, n := range ns {
@@ -120,7 +120,7 @@ func (nb *Neighbours) Path(t *Train, knob string, values []float64) []Fit {
 			failAll(fits, err)
 			return fits
 		}
-		rowsPath(ds, t.Y, nb.K, ns, fits)
+		rowsPath(t, ds, nb.K, ns, fits)
 	default:
 		failAll(fits, fmt.Errorf("%w: %q (accepted: %s, %s)", ErrKnob, knob, spec.ParamNeighbours, spec.ParamNTrain))
 	}
@@ -139,8 +139,8 @@ func byNearest(order []neighbour, d []float64) []neighbour {
 }
 
 // neighboursPath fits every k of ks (0: skip) on all n rows.
-func neighboursPath(ds *distances, y []float64, ks []int, fits []Fit) {
-	n := ds.n
+func neighboursPath(t *Train, ds *distances, ks []int, fits []Fit) {
+	n, y := ds.n, t.Y
 	kmax := slices.Max(ks)
 	order := make([]neighbour, 0, n)
 	prefix := make([]float64, kmax+1)
@@ -181,8 +181,9 @@ func neighboursPath(ds *distances, y []float64, ks []int, fits []Fit) {
 			fits[v].Pred = make([]float64, ds.m)
 		}
 	}
+	row := make([]float64, n)
 	for j := range ds.m {
-		means(ds.test[j*n : (j+1)*n])
+		means(t.testDists(j, row))
 		for v, k := range ks {
 			if k > 0 {
 				fits[v].Pred[j] = prefix[k] / float64(k)
@@ -193,8 +194,8 @@ func neighboursPath(ds *distances, y []float64, ks []int, fits []Fit) {
 }
 
 // rowsPath fits k neighbours on the first ns[v] rows for every v (0: skip).
-func rowsPath(ds *distances, y []float64, k int, ns []int, fits []Fit) {
-	all := ds.n
+func rowsPath(t *Train, ds *distances, k int, ns []int, fits []Fit) {
+	all, y := ds.n, t.Y
 	order := make([]neighbour, 0, all)
 	// mean returns the mean target of the first k entries of order with
 	// index < n, and whether row self is among them.
@@ -243,8 +244,9 @@ func rowsPath(ds *distances, y []float64, k int, ns []int, fits []Fit) {
 			fits[v].Pred = make([]float64, ds.m)
 		}
 	}
+	row := make([]float64, all)
 	for j := range ds.m {
-		order = byNearest(order, ds.test[j*all:(j+1)*all])
+		order = byNearest(order, t.testDists(j, row))
 		for v, n := range ns {
 			if n > 0 {
 				fits[v].Pred[j], _ = mean(n, -1)
