@@ -14,8 +14,8 @@ import (
 //     setting, for the features knob;
 //   - the Gram matrices X_p X_pᵀ of the features path past p = n (an m×m
 //     matrix per grid value: 8·m² bytes each);
-//   - the squared Euclidean distances among the training rows and from the
-//     test rows to them, for kernel ridge and k-NN (8·n·(n + m) bytes).
+//   - the squared Euclidean distances among the training rows, for kernel
+//     ridge and k-NN (8·n² bytes).
 //
 // The cache lives as long as the Train; a Train is not safe for concurrent
 // use (the runner gives each seed its own).
