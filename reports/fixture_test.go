@@ -29,6 +29,7 @@ func pt(value float64, seeds int, risk, riskSE, train, trainSE, b2, b2SE, v, vSE
 		VarianceData:  est(v, vSE),
 		VarianceModel: est(0, 0),
 		RiskMCSE:      runner.NaN,
+		Theory:        runner.NaN,
 		CondMedian:    runner.Num(df * 3.7),
 		Noise:         est(1, 0),
 		Sum:           runner.Num(b2 + v + 1),

@@ -31,7 +31,7 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 	xlo, xhi := math.Inf(1), math.Inf(-1)
 	for _, mi := range ms {
 		for _, p := range r.Models[mi].Points {
-			main = append(main, float64(p.Risk.Mean), float64(theoryOf(&p)))
+			main = append(main, float64(p.Risk.Mean), float64(p.Theory))
 			if p.HeavyTail {
 				main = append(main, float64(p.RiskQ1), float64(p.RiskQ3))
 			}
@@ -93,9 +93,10 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 	leg := newLegend()
 	key := modelPalette(0, true)
 	if !single {
-		key = seriesColours{risk: styleGrey, train: styleGrey, theory: styleGrey, median: styleGrey}
+		key = seriesColours{risk: styleGrey, train: styleGrey, theory: color.Black, median: styleGrey}
 	}
 	var heavy, trainClamped, bandClamped, theory, train, bars bool
+	var theoryLines []plot.Plotter // drawn over every model's curves
 	for k, mi := range ms {
 		m := &r.Models[mi]
 		pal := modelPalette(k, single)
@@ -130,7 +131,7 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 			p.Add(glyphs(s.heavyMean, draw.RingGlyph{}, pal.risk, 3.2))
 		}
 		for _, seg := range s.theory {
-			p.Add(line(seg, theoryLine(pal)))
+			theoryLines = append(theoryLines, line(seg, theoryLine(pal)))
 		}
 		for _, seg := range s.train {
 			p.Add(line(seg, trainLine(pal)))
@@ -141,6 +142,9 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 		if low := glyphs(s.trainLow, downTriangle{}, pal.train, 3); low != nil {
 			p.Add(low)
 		}
+	}
+	for _, l := range theoryLines {
+		p.Add(l)
 	}
 	one := plotter.XYs{{X: 0, Y: 0}}
 	addKey(&leg, "risk: mean ± 2 SE", band(plotter.XYs{{X: 0, Y: 0}, {X: 1, Y: 0}, {X: 1, Y: 1}}, withAlpha(key.risk, bandAlpha)),
@@ -181,7 +185,7 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 			heavyCount(r.Seeds), r.Seeds))
 	}
 	if theory {
-		cap = append(cap, "Dashed: the exact expected risk from a published formula (result.json \"theory\"), where one applies.")
+		cap = append(cap, "Black dashes: the exact expected risk from a published formula, where one applies (result.json \"theory\"; the README lists the cases).")
 	}
 	if ys.log {
 		note := "Log y axis"
@@ -244,7 +248,7 @@ func riskSeries(m *runner.ModelResult, ys yScale) riskPoints {
 		}
 		return at(p.Risk.Mean)
 	})
-	s.theory = runs(m.Points, func(p *runner.Point) (float64, bool) { return at(theoryOf(p)) })
+	s.theory = runs(m.Points, func(p *runner.Point) (float64, bool) { return at(p.Theory) })
 	s.train = runs(m.Points, func(p *runner.Point) (float64, bool) { return at(p.TrainRisk.Mean) })
 	// A band over each run of points with a stable mean and a finite SE.
 	var lo, hi plotter.XYs
@@ -357,7 +361,7 @@ var styleGrey = color.Gray{0x40}
 func riskLine(pal seriesColours) draw.LineStyle { return lineStyle(pal.risk, 1.6, nil) }
 
 func theoryLine(pal seriesColours) draw.LineStyle {
-	return lineStyle(pal.theory, 1.4, []vg.Length{vg.Points(6), vg.Points(3)})
+	return lineStyle(pal.theory, 1.2, []vg.Length{vg.Points(5), vg.Points(3)})
 }
 
 func trainLine(pal seriesColours) draw.LineStyle {
@@ -399,7 +403,9 @@ func modelPalette(k int, single bool) seriesColours {
 		return seriesColours{risk: okabeIto[0], train: okabeIto[1], theory: color.Black, median: okabeIto[3]}
 	}
 	c := okabeIto[k%len(okabeIto)]
-	return seriesColours{risk: c, train: c, theory: c, median: c}
+	// The theory curve lies on its model's mean: black dashes stay visible
+	// over it, and only the curves that have one carry it.
+	return seriesColours{risk: c, train: c, theory: color.Black, median: c}
 }
 
 func withAlpha(c color.Color, a uint8) color.Color {
@@ -408,6 +414,3 @@ func withAlpha(c color.Color, a uint8) color.Color {
 	f := float64(a) / 0xff
 	return color.RGBA{uint8(float64(r>>8) * f), uint8(float64(g>>8) * f), uint8(float64(b>>8) * f), a}
 }
-
-// theoryOf is the theory value of a point; results do not carry one yet.
-func theoryOf(p *runner.Point) runner.Num { return runner.NaN }

@@ -345,3 +345,28 @@ func TestLinearTicks(t *testing.T) {
 func oneCurve(r *runner.Result, i int) curveSet {
 	return curveSet{title: r.Models[i].Label, curves: []int{i}, keys: []string{r.Models[i].Label}}
 }
+
+// A theory curve is drawn dashed where the result carries one, broken where
+// it does not (null at the threshold), and said in the legend and caption.
+func TestRiskTheoryCurve(t *testing.T) {
+	r := synthetic()
+	mn := r.Models[0].Points
+	for i, v := range []float64{1.8, 5.2, math.NaN(), 9.9, 1.9} {
+		mn[i].Theory = runner.Num(v)
+	}
+	ys := newYScale([]float64{1.8, 26000}, riskFloorGap)
+	s := riskSeries(&r.Models[0], ys)
+	if len(s.theory) != 2 || len(s.theory[0]) != 2 || len(s.theory[1]) != 2 || s.theory[1][0].X != 60 {
+		t.Errorf("theory segments %v, want two, broken at p = 50", s.theory)
+	}
+	if s := riskSeries(&r.Models[1], ys); len(s.theory) != 0 {
+		t.Errorf("ridge has no theory, got segments %v", s.theory)
+	}
+	f := riskFigure(r, newGeometry(r), curveSet{title: "all models", curves: []int{0, 1}, keys: []string{"min-norm", "ridge"}})
+	if cap := strings.Join(f.caption, " "); !strings.Contains(cap, "Black dashes: the exact expected risk") {
+		t.Errorf("caption %q does not explain the theory curve", cap)
+	}
+	if _, _, err := f.render(); err != nil {
+		t.Error(err)
+	}
+}

@@ -171,7 +171,9 @@ func (r *run) reduce() (*Result, *Sums, error) {
 		ms := ModelSums{Label: m.spec.Label, Key: m.key}
 		for vi, v := range r.values {
 			p := pts[mi][vi]
-			mr.Points = append(mr.Points, r.finish(v, p, res, m.seeds))
+			pt := r.finish(v, p, res, m.seeds)
+			pt.Theory = r.theory(m.spec, v)
+			mr.Points = append(mr.Points, pt)
 			ms.Points = append(ms.Points, PointSums{
 				Value: v, Seeds: p.seeds, Risk: p.risk, TrainRisk: p.train, Norm: p.norm, DF: p.df,
 				Interp: p.interp, SumDev: p.sp.sum, SumSqDev: p.sumSq, SumSqDevInput: p.sumSqIn,

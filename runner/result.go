@@ -85,7 +85,11 @@ type Point struct {
 	// RiskMCSE is the Monte Carlo standard error of Risk from the finite
 	// test sample (risk basis monte-carlo), apart from Risk.SE, which is
 	// over seeds; null on other bases.
-	RiskMCSE  Num      `json:"risk_mc_se"`
+	RiskMCSE Num `json:"risk_mc_se"`
+	// Theory is the exact expected true risk E R from a published formula
+	// where one applies to this model, data and grid value (see theory.go);
+	// null elsewhere.
+	Theory    Num      `json:"theory"`
 	TrainRisk Estimate `json:"train_risk"` // (1/n)‖y − ŷ‖² on the training sample
 	Gap       Estimate `json:"gap"`        // Risk − TrainRisk, paired per seed
 	Bias2     Estimate `json:"bias2"`      // unbiased: ‖ē‖² − V̂/S (may be < 0)
@@ -117,6 +121,18 @@ type Point struct {
 	Interpolating Num `json:"interpolating"`
 
 	Errors []CellError `json:"errors,omitempty"`
+}
+
+// UnmarshalJSON reads a Point; a result.json written before the theory
+// field existed reads as having none (NaN, not 0).
+func (p *Point) UnmarshalJSON(b []byte) error {
+	type plain Point // without this method
+	q := plain{Theory: NaN}
+	if err := json.Unmarshal(b, &q); err != nil {
+		return err
+	}
+	*p = Point(q)
+	return nil
 }
 
 // Estimate is a mean over seeds with its standard error.
