@@ -200,7 +200,7 @@ func newPanel(g geometry, ys yScale, yLabel string) *plot.Plot {
 	switch {
 	case g.logX:
 		p.X.Scale = plot.LogScale{}
-		p.X.Tick.Marker = logTicks{}
+		p.X.Tick.Marker = logTicks{ends: true}
 	case g.log1pX:
 		p.X.Scale = log1pScale{}
 		p.X.Tick.Marker = log1pTicks{}
@@ -378,10 +378,12 @@ func (downTriangle) DrawGlyph(c *draw.Canvas, sty draw.GlyphStyle, pt vg.Point) 
 
 // logTicks labels a log axis: every power of ten, and 2 and 5 times it (or
 // every integer multiple) when the axis spans too few decades for powers
-// alone to give three labels. Minor ticks mark the other multiples.
-type logTicks struct{}
+// alone to give three labels. Minor ticks mark the other multiples. With
+// ends set (the grid axis, whose ends are grid values) the ends are
+// labelled too when no label sits within a factor 1.9 of them.
+type logTicks struct{ ends bool }
 
-func (logTicks) Ticks(lo, hi float64) []plot.Tick {
+func (lt logTicks) Ticks(lo, hi float64) []plot.Tick {
 	if !(lo > 0) || !(hi > lo) {
 		return nil
 	}
@@ -416,6 +418,20 @@ func (logTicks) Ticks(lo, hi float64) []plot.Tick {
 				continue
 			}
 			ticks = append(ticks, t)
+		}
+	}
+	if lt.ends {
+		first, last := math.Inf(1), math.Inf(-1)
+		for _, t := range ticks {
+			if t.Label != "" {
+				first, last = math.Min(first, t.Value), math.Max(last, t.Value)
+			}
+		}
+		if first > lo*1.9 {
+			ticks = append(ticks, plot.Tick{Value: lo, Label: num(lo)})
+		}
+		if last < hi/1.9 {
+			ticks = append(ticks, plot.Tick{Value: hi, Label: num(hi)})
 		}
 	}
 	return ticks
@@ -481,5 +497,5 @@ func (log1pTicks) Ticks(lo, hi float64) []plot.Tick {
 	if lo <= 0 && hi >= 0 {
 		ticks = append(ticks, plot.Tick{Value: 0, Label: "0"})
 	}
-	return append(ticks, logTicks{}.Ticks(math.Max(lo, 1), hi)...)
+	return append(ticks, logTicks{ends: true}.Ticks(math.Max(lo, 1), hi)...)
 }
