@@ -11,11 +11,12 @@ import (
 const heatMapDir = "figures"
 
 // writeHeatMaps draws the heat maps of a two-axis result into
-// dir/figures, each as SVG and PNG; a one-axis result has none.
-func writeHeatMaps(dir string, res *runner.Result) error {
+// dir/figures, each as SVG and PNG, and returns them (for the report
+// page); a one-axis result has none.
+func writeHeatMaps(dir string, res *runner.Result) ([]reports.HeatMap, error) {
 	maps, err := reports.HeatMaps(res)
 	if err != nil {
-		return err
+		return nil, err
 	}
 	for _, m := range maps {
 		for _, f := range []struct {
@@ -23,9 +24,9 @@ func writeHeatMaps(dir string, res *runner.Result) error {
 			b   []byte
 		}{{".svg", m.SVG}, {".png", m.PNG}} {
 			if err := runner.WriteFile(filepath.Join(dir, heatMapDir, m.Name+f.ext), f.b); err != nil {
-				return err
+				return nil, err
 			}
 		}
 	}
-	return nil
+	return maps, nil
 }

@@ -11,6 +11,7 @@
 package main
 
 import (
+	"bytes"
 	"context"
 	"encoding/json"
 	"errors"
@@ -279,10 +280,11 @@ func writeArtifacts(dir string, ro *runner.Output) error {
 	if err := writeTables(dir, ro.Result); err != nil {
 		return err
 	}
-	if err := writeHeatMaps(dir, ro.Result); err != nil {
+	maps, err := writeHeatMaps(dir, ro.Result)
+	if err != nil {
 		return err
 	}
-	return writeFigures(dir, ro.Result)
+	return writeFigures(dir, ro.Result, maps)
 }
 
 // writeTables writes the tables of res into dir, table.tex in the style its
@@ -402,11 +404,12 @@ func cmdReport(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}
-	if err := writeHeatMaps(dir, res); err != nil {
+	maps, err := writeHeatMaps(dir, res)
+	if err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}
-	if err := writeFigures(dir, res); err != nil {
+	if err := writeFigures(dir, res, maps); err != nil {
 		fmt.Fprintf(stderr, "riskgrid report: %v\n", err)
 		return exitFailed
 	}
@@ -465,8 +468,9 @@ func readResult(path string) (*runner.Result, error) {
 }
 
 // writeFigures draws the figures of res into dir/figures, each as SVG and
-// PNG.
-func writeFigures(dir string, res *runner.Result) error {
+// PNG, and writes report.md, the page that shows them (and the heat maps)
+// with the summary and the tables.
+func writeFigures(dir string, res *runner.Result, maps []reports.HeatMap) error {
 	figs, err := reports.Figures(res)
 	if err != nil {
 		return err
@@ -481,5 +485,9 @@ func writeFigures(dir string, res *runner.Result) error {
 			}
 		}
 	}
-	return nil
+	var page bytes.Buffer
+	if err := reports.Page(&page, res, figs, maps); err != nil {
+		return err
+	}
+	return runner.WriteFile(filepath.Join(dir, reports.PageName), page.Bytes())
 }

@@ -312,12 +312,22 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 			t.Errorf("run: figure %s missing or empty (%v)", n, err)
 		}
 	}
+	page, err := os.ReadFile(filepath.Join(matches[0], "report.md"))
+	if err != nil {
+		t.Fatalf("run wrote no report.md: %v", err)
+	}
+	for _, want := range []string{"# tiny\n", "## Summary", "](figures/risk-1-least-squares.png)", "## Tables", "```toml\n# riskgrid spec"} {
+		if !strings.Contains(string(page), want) {
+			t.Errorf("report.md lacks %q:\n%s", want, page)
+		}
+	}
 	// report redraws them from result.json.
 	os.RemoveAll(figs)
+	os.Remove(filepath.Join(matches[0], "report.md"))
 	if status, _, stderr := runCLI("report", matches[0]); status != exitOK {
 		t.Fatalf("report: status %d, stderr %s", status, stderr)
 	}
-	for _, n := range names {
+	for _, n := range append(names, "../report.md") {
 		if _, err := os.Stat(filepath.Join(figs, n)); err != nil {
 			t.Errorf("report: %v", err)
 		}
