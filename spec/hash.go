@@ -11,7 +11,7 @@ import (
 // Engine is the engine version salt. It enters every hash; bump it when a
 // change of the engine changes results, so that old cached results are not
 // reused.
-const Engine = "riskgrid-engine/3"
+const Engine = "riskgrid-engine/1"
 
 // Any new influence on the result must be added here: Hash, DataKey and
 // ModelKey are SHA-256 sums of the line streams built in this file, one
