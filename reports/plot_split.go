@@ -19,6 +19,7 @@ var (
 	noiseColor = color.RGBA{0xC8, 0xC8, 0xC8, 0xff}
 	biasColor  = color.RGBA{0x56, 0xB4, 0xE9, 0xff}
 	varColor   = color.RGBA{0xE6, 0x9F, 0x00, 0xff}
+	modelColor = color.RGBA{0xCC, 0x79, 0xA7, 0xff} // variance over model seeds
 )
 
 // splitFigure draws, per model of ms (one panel each), the mean risk split
@@ -32,7 +33,7 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 	lumped := r.SplitBasis == runner.SplitLumped
 	var panels []*plot.Plot
 	var negatives []string
-	var heavy, logAny, clamped bool
+	var heavy, logAny, clamped, splitVar bool
 	// One decision for every panel: log y when any model's total spans a
 	// decade, so that panels side by side read alike.
 	var totals []float64
@@ -61,8 +62,8 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 			p.Title.Text += ": bias², variance and noise against " + g.symbol
 		}
 		for _, run := range st.runs {
-			for layer, c := range []color.Color{noiseColor, biasColor, varColor} {
-				if lumped && layer == 1 {
+			for layer, c := range []color.Color{noiseColor, biasColor, varColor, modelColor} {
+				if lumped && layer == 1 || !st.splitVar && layer == 3 {
 					continue
 				}
 				p.Add(stackBand(run, layer, c))
@@ -79,8 +80,9 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 			heavy = true
 		}
 		for _, n := range st.negative {
-			negatives = append(negatives, fmt.Sprintf("%s at %s = %s: %s", m.Label+atOuter(r, m), g.symbol, knob(n.X), num(n.Y)))
+			negatives = append(negatives, fmt.Sprintf("%s of %s at %s = %s: %s", n.part, m.Label+atOuter(r, m), g.symbol, knob(n.x), num(n.v)))
 		}
+		splitVar = splitVar || st.splitVar
 		logAny = logAny || st.ys.log
 		clamped = clamped || st.clamped
 		fixRanges(p, g, st.ys)
@@ -90,7 +92,12 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 		return nil
 	}
 	leg := newLegend()
-	addKey(&leg, "variance", &plotter.Polygon{Color: varColor})
+	if splitVar {
+		addKey(&leg, "variance over model seeds", &plotter.Polygon{Color: modelColor})
+		addKey(&leg, "variance over samples", &plotter.Polygon{Color: varColor})
+	} else {
+		addKey(&leg, "variance", &plotter.Polygon{Color: varColor})
+	}
 	if lumped {
 		addKey(&leg, "bias² + noise (truth unknown)", &plotter.Polygon{Color: noiseColor})
 	} else {
@@ -112,8 +119,12 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 	} else {
 		cap = append(cap, "Stacked from the bottom: noise σ², bias², variance; "+splitText(r)+". The line is their sum, the mean risk.")
 	}
+	if splitVar {
+		cap = append(cap, "Where the model has randomness of its own, its variance is split into the part due to the training sample "+
+			"and the part due to the model seeds (result.json variance_data and variance_model, each unbiased for the nested design).")
+	}
 	if len(negatives) > 0 {
-		cap = append(cap, "bias² is estimated without bias and can fall below 0 where the bias is small; negative estimates are stacked as 0 ("+
+		cap = append(cap, "The parts are estimated without bias and can fall below 0 where they are small; negative estimates are stacked as 0 ("+
 			strings.Join(negatives, "; ")+"), so the stack may end slightly above the line.")
 	}
 	if heavy {
@@ -155,46 +166,67 @@ type stack struct {
 	total     []plotter.XYs
 	totalDots plotter.XYs
 	heavy     plotter.XYs
-	negative  plotter.XYs // (value, bias²) where bias² < 0
+	negative  []negativePart // parts estimated below 0, stacked as 0
 	clamped   bool
+	splitVar  bool // variance split into sample and model-seed parts
+}
+
+// negativePart is a part of the split estimated below 0.
+type negativePart struct {
+	part string // "bias²", ...
+	x, v float64
 }
 
 // stackPoint holds the running sums at one grid value: b[0] the bottom of
-// the stack, b[1] after the noise, b[2] after bias², b[3] after variance.
+// the stack, b[1] after the noise, b[2] after bias², b[3] after the
+// variance over samples (all of it when it is not split), b[4] after the
+// variance over model seeds.
 type stackPoint struct {
 	x float64
-	b [4]float64
+	b [5]float64
 }
 
 func stackSeries(m *runner.ModelResult, lumped, logY bool) stack {
 	var st stack
 	type raw struct {
 		x            float64
-		n, b2, v     float64
+		n, b2, v, vm float64
 		ok, heavyPts bool
 	}
 	rs := make([]raw, len(m.Points))
 	var totals, bounds []float64
+	for _, p := range m.Points {
+		if v := float64(p.VarianceModel.Mean); finite(v) && v != 0 {
+			st.splitVar = true
+		}
+	}
+	nonNeg := func(part string, x, v float64) float64 {
+		if v < 0 {
+			st.negative = append(st.negative, negativePart{part, x, v})
+			return 0
+		}
+		return v
+	}
 	for i := range m.Points {
 		p := &m.Points[i]
 		r := raw{x: p.Value, heavyPts: p.HeavyTail}
 		if lumped {
 			r.n, r.b2 = float64(p.Bias2.Mean), 0 // the bias² column holds bias² + noise
 		} else {
-			r.n, r.b2 = float64(p.Noise.Mean), float64(p.Bias2.Mean)
-			if r.b2 < 0 {
-				st.negative = append(st.negative, plotter.XY{X: p.Value, Y: r.b2})
-				r.b2 = 0
-			}
+			r.n, r.b2 = float64(p.Noise.Mean), nonNeg("bias²", p.Value, float64(p.Bias2.Mean))
 		}
 		r.v = float64(p.Variance.Mean)
-		r.ok = finite(r.n) && finite(r.b2) && finite(r.v)
+		if st.splitVar {
+			r.v = nonNeg("variance over samples", p.Value, float64(p.VarianceData.Mean))
+			r.vm = nonNeg("variance over model seeds", p.Value, float64(p.VarianceModel.Mean))
+		}
+		r.ok = finite(r.n) && finite(r.b2) && finite(r.v) && finite(r.vm)
 		if lumped && r.n < 0 {
 			r.n = 0 // bias² + noise estimate below 0: nothing to stack
 		}
 		rs[i] = r
 		if r.ok {
-			bounds = append(bounds, r.n, r.n+r.b2, r.n+r.b2+r.v)
+			bounds = append(bounds, r.n, r.n+r.b2, r.n+r.b2+r.v, r.n+r.b2+r.v+r.vm)
 		}
 		if !p.Sum.IsNaN() {
 			totals = append(totals, float64(p.Sum))
@@ -223,7 +255,7 @@ func stackSeries(m *runner.ModelResult, lumped, logY bool) stack {
 			continue
 		}
 		sp := stackPoint{x: r.x}
-		sums := [4]float64{0, r.n, r.n + r.b2, r.n + r.b2 + r.v}
+		sums := [5]float64{0, r.n, r.n + r.b2, r.n + r.b2 + r.v, r.n + r.b2 + r.v + r.vm}
 		for j, s := range sums {
 			y, c := st.ys.at(s)
 			if st.ys.log && j == 0 {
@@ -258,7 +290,8 @@ func stackSeries(m *runner.ModelResult, lumped, logY bool) stack {
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
 
-// stackBand is the polygon of layer l (0 noise, 1 bias², 2 variance)
+// stackBand is the polygon of layer l (0 noise, 1 bias², 2 variance over
+// samples, 3 variance over model seeds)
 // between the running sums b[l] and b[l+1] over a run of points. A run of
 // one point becomes a thin bar.
 func stackBand(run []stackPoint, l int, c color.Color) *plotter.Polygon {

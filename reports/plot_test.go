@@ -120,7 +120,7 @@ func TestSplitNegativeBiasOnLogAxis(t *testing.T) {
 	if !st.ys.log || !(st.ys.floor > 0) {
 		t.Fatalf("y scale %+v, want a log axis with a positive floor", st.ys)
 	}
-	if len(st.negative) != 1 || st.negative[0].X != 40 || st.negative[0].Y != -0.0123 {
+	if len(st.negative) != 1 || st.negative[0] != (negativePart{"bias²", 40, -0.0123}) {
 		t.Errorf("negative bias² recorded as %v, want [(40, -0.0123)]", st.negative)
 	}
 	for _, run := range st.runs {
@@ -140,7 +140,7 @@ func TestSplitNegativeBiasOnLogAxis(t *testing.T) {
 		t.Fatal("no split figure")
 	}
 	cap := strings.Join(f.caption, " ")
-	for _, want := range []string{"min-norm at p = 40: -0.0123", "Log y axis", "double-descent-demo", "3f9a0c1de27b"} {
+	for _, want := range []string{"bias² of min-norm at p = 40: -0.0123", "Log y axis", "double-descent-demo", "3f9a0c1de27b"} {
 		if !strings.Contains(cap, want) {
 			t.Errorf("caption %q lacks %q", cap, want)
 		}
@@ -368,5 +368,42 @@ func TestRiskTheoryCurve(t *testing.T) {
 	}
 	if _, _, err := f.render(); err != nil {
 		t.Error(err)
+	}
+}
+
+// A model with randomness of its own: the variance band splits into the
+// part over samples and the part over model seeds, stacked in that order,
+// and a negative estimate of either is stacked as 0.
+func TestSplitModelVariance(t *testing.T) {
+	r := synthetic()
+	m := &r.Models[1]
+	for i := range m.Points {
+		p := &m.Points[i]
+		p.VarianceModel = est(float64(p.Variance.Mean)/4, 0.001)
+		p.VarianceData = est(float64(p.Variance.Mean)*3/4, 0.001)
+	}
+	m.Points[0].VarianceModel.Mean = -0.002
+	st := stackSeries(m, false, false)
+	if !st.splitVar {
+		t.Fatal("variance not split")
+	}
+	sp := st.runs[0][2] // p = 50
+	p := m.Points[2]
+	wantData := float64(p.Noise.Mean + p.Bias2.Mean + p.VarianceData.Mean)
+	if math.Abs(sp.b[3]-wantData) > 1e-12 || math.Abs(sp.b[4]-(wantData+float64(p.VarianceModel.Mean))) > 1e-12 {
+		t.Errorf("p = 50: boundaries %v, want the sample part to end at %v and the model part above it", sp.b, wantData)
+	}
+	if st.runs[0][0].b[4] != st.runs[0][0].b[3] {
+		t.Errorf("p = 10: a negative model variance should stack as 0, boundaries %v", st.runs[0][0].b)
+	}
+	if len(st.negative) != 1 || st.negative[0].part != "variance over model seeds" {
+		t.Errorf("negative parts %v", st.negative)
+	}
+	if st := stackSeries(&r.Models[0], false, false); st.splitVar {
+		t.Errorf("a model without model variance got a split")
+	}
+	f := splitFigure(r, newGeometry(r), oneCurve(r, 1))
+	if cap := strings.Join(f.caption, " "); !strings.Contains(cap, "model seeds") {
+		t.Errorf("caption %q does not explain the split", cap)
 	}
 }
