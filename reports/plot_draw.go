@@ -47,14 +47,29 @@ func (f *figure) render() (svg, png []byte, err error) {
 	if _, err := sc.WriteTo(&sb); err != nil {
 		return nil, nil, fmt.Errorf("svg: %w", err)
 	}
+	// The SVG names the font but does not embed it (that would add half a
+	// megabyte per file): offer the faces metric-compatible with it, which
+	// most viewers have, before a generic one.
+	svg = bytes.ReplaceAll(sb.Bytes(), []byte("font-family:Liberation Sans;"), []byte(svgFonts))
 	ic := vgimg.NewWith(vgimg.UseWH(f.w, f.h), vgimg.UseDPI(pngDPI))
 	f.draw(draw.New(ic))
 	var pb bytes.Buffer
 	if _, err := (vgimg.PngCanvas{Canvas: ic}).WriteTo(&pb); err != nil {
 		return nil, nil, fmt.Errorf("png: %w", err)
 	}
-	return sb.Bytes(), pb.Bytes(), nil
+	return svg, pb.Bytes(), nil
 }
+
+// svgFonts is the font list of the SVG text: Liberation Sans, which the
+// figure was laid out with, then Arial and Helvetica, whose glyph widths
+// it matches (it was designed as their metric-compatible substitute; from
+// memory), then any sans-serif face.
+const svgFonts = "font-family:'Liberation Sans',Arial,Helvetica,sans-serif;"
+
+// slack is the share of the caption's width and of the legend column
+// left free, so that an SVG viewer that substitutes a wider face (DejaVu
+// Sans, measured here, is up to 15% wider) still fits the text.
+const slack = 0.15
 
 const pad = vg.Inch / 8
 
@@ -70,7 +85,7 @@ func (f *figure) draw(dc draw.Canvas) {
 	lineH := cs.FontExtents().Height * 1.15
 	var lines []string
 	for _, para := range f.caption {
-		lines = append(lines, wrap(cs, para, full.Size().X-2*pad)...)
+		lines = append(lines, wrap(cs, para, (full.Size().X-2*pad)*(1-slack))...)
 	}
 	capH := vg.Length(len(lines))*lineH + pad
 	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
@@ -83,7 +98,7 @@ func (f *figure) draw(dc draw.Canvas) {
 
 	// Legend column on the right, sized to its longest entry.
 	lr := f.legend.Rectangle(dc)
-	legW := lr.Size().X + 2*pad
+	legW := lr.Size().X*(1+slack) + 2*pad
 	if maxW := full.Size().X * 0.42; legW > maxW {
 		legW = maxW
 	}
