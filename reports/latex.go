@@ -119,7 +119,7 @@ func latexTable(buf *bytes.Buffer, r *runner.Result, pv provenance, i int, style
 		}
 		cells := []string{
 			texNum(knob(p.Value)),
-			pair(p.Risk), texNum(meanAt(p.RiskMedian, medianSE(p))),
+			pair(p.Risk), texNum(medianText(p)),
 			pair(p.TrainRisk), pair(p.Gap), pair(p.Bias2), pair(p.Variance),
 			texNum(meanAt(p.DF.Mean, p.DF.SE)), texNum(meanAt(p.Norm.Mean, p.Norm.SE)),
 		}

@@ -144,7 +144,7 @@ func riskCell(p *runner.Point) string {
 		out += " ± " + s
 	}
 	if p.HeavyTail {
-		out += " `!` (median " + meanAt(p.RiskMedian, medianSE(p)) + ")"
+		out += " `!` (median " + medianText(p) + ")"
 	}
 	return out
 }

@@ -475,3 +475,17 @@ func TestVarianceParts(t *testing.T) {
 		t.Errorf("one model seed: the table shows a model part")
 	}
 }
+
+// TestMedianNotRoundedAway: at a heavy-tailed point whose quartiles spread
+// over decades the median's SE exceeds the median; it still prints with two
+// significant digits, not as 0.
+func TestMedianNotRoundedAway(t *testing.T) {
+	p := runner.Point{Seeds: 20, RiskQ1: 3e3, RiskMedian: 4.1e19, RiskQ3: 8e40}
+	if got := medianText(&p); got != "4.1e+19" {
+		t.Errorf("medianText = %q, want 4.1e+19", got)
+	}
+	p = runner.Point{Seeds: 20, RiskQ1: 1.55, RiskMedian: 1.6011, RiskQ3: 1.67}
+	if got, want := medianText(&p), meanAt(p.RiskMedian, medianSE(&p)); got != want {
+		t.Errorf("medianText = %q, want %q as before when the SE is small", got, want)
+	}
+}

@@ -64,7 +64,7 @@ func row(r *runner.Result, m *runner.ModelResult, p *runner.Point) []string {
 	}
 	c := []string{
 		knob(p.Value),
-		risk, riskSE, meanAt(p.RiskMedian, medianSE(p)),
+		risk, riskSE, medianText(p),
 		train, trainSE,
 		gap, gapSE,
 		b2, b2SE,
@@ -91,6 +91,19 @@ func digits2(x runner.Num) string {
 		return ""
 	}
 	return strconv.FormatFloat(float64(x), 'g', 2, 64)
+}
+
+// medianText prints the median risk at the resolution medianSE supports,
+// but never coarser than two significant digits: at a heavy-tailed point
+// the quartiles can spread over decades, their SE exceed the median itself,
+// and rounding at it would print the number the reader is told to read as
+// 0.
+func medianText(p *runner.Point) string {
+	se := medianSE(p)
+	if m := math.Abs(float64(p.RiskMedian)); !se.IsNaN() && float64(se) > m {
+		se = runner.Num(m)
+	}
+	return meanAt(p.RiskMedian, se)
 }
 
 // medianSE is a rough standard error of the median risk, used only to
