@@ -11,9 +11,15 @@ import (
 	"path/filepath"
 )
 
-// cacheMagic heads every cache file; bump the version on any change of the
-// layout of entry or cell, so old files become misses rather than misreads.
-const cacheMagic = "riskgrid-cache/1\n"
+// cacheMagic heads every cache file and enters every entry key; bump the
+// version on any change of the layout of entry or cell, so old files become
+// misses rather than misreads, and when cells computed by an older build
+// must not be trusted although their spec still means the same samples
+// (spec.Engine also salts the random streams, so bumping it redraws every
+// sample). Version 2: least squares now applies its shared QR by unblocked
+// Householder routines, as gonum v0.17.0's blocked ones lost accuracy on
+// designs with structured zeros (see models/leastsquares.go).
+const cacheMagic = "riskgrid-cache/2\n"
 
 // entry holds every cell computed for one seed of one data distribution,
 // across models, knobs and grid values. Cells are keyed by cellKey.
