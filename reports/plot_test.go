@@ -407,3 +407,36 @@ func TestSplitModelVariance(t *testing.T) {
 		t.Errorf("caption %q does not explain the split", cap)
 	}
 }
+
+// A two-axis result: no "-all" figures, one figure per model with a curve
+// (and a split panel) per outer value, each curve with its own threshold.
+func TestFiguresTwoAxis(t *testing.T) {
+	r := twoAxisResult()
+	r.Param = "features"
+	for i := range r.Models {
+		r.Models[i].Family = "least-squares"
+	}
+	figs, err := Figures(r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, f := range figs {
+		names = append(names, f.Name)
+	}
+	if got := strings.Join(names, " "); got != "risk-1-min-norm split-1-min-norm risk-2-ridge-0-1 split-2-ridge-0-1" {
+		t.Errorf("figures %s", got)
+	}
+	sets := curveSets(r)
+	if len(sets) != 2 || len(sets[0].curves) != 2 || sets[0].keys[1] != "n = 100" {
+		t.Fatalf("curve sets %+v", sets)
+	}
+	ths := thresholds(r, newGeometry(r), sets[0].curves)
+	if len(ths) != 2 || ths[0].x != 50 || ths[1].x != 100 || ths[1].curve != 1 {
+		t.Errorf("thresholds %+v, want p = 50 and p = 100, one per curve", ths)
+	}
+	f := splitFigure(r, newGeometry(r), sets[0])
+	if len(f.panels) != 2 || f.panels[1][0].Title.Text != "min-norm, n = 100" {
+		t.Errorf("split panels %d, second titled %q", len(f.panels), f.panels[1][0].Title.Text)
+	}
+}
