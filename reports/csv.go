@@ -14,7 +14,7 @@ import (
 // csvHeader names the columns of CSV, in order.
 var csvHeader = []string{
 	"model", "family", "param", "value", "seeds", "model_seeds",
-	"risk", "risk_se", "risk_mc_se", "risk_q1", "risk_median", "risk_q3",
+	"risk", "risk_se", "risk_mc_se", "risk_q1", "risk_median", "risk_q3", "theory",
 	"train_risk", "train_risk_se", "gap", "gap_se",
 	"bias2", "bias2_se", "variance", "variance_se",
 	"variance_data", "variance_data_se", "variance_model", "variance_model_se", "noise", "noise_se",
@@ -75,7 +75,7 @@ func CSV(w io.Writer, r *runner.Result) error {
 func csvRow(r *runner.Result, pv provenance, m *runner.ModelResult, p *runner.Point) []string {
 	return []string{
 		m.Label, m.Family, r.Param, full(p.Value), strconv.Itoa(p.Seeds), strconv.Itoa(modelSeeds(r, m)),
-		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskMCSE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3),
+		full(p.Risk.Mean), full(p.Risk.SE), full(p.RiskMCSE), full(p.RiskQ1), full(p.RiskMedian), full(p.RiskQ3), full(p.Theory),
 		full(p.TrainRisk.Mean), full(p.TrainRisk.SE), full(p.Gap.Mean), full(p.Gap.SE),
 		full(p.Bias2.Mean), full(p.Bias2.SE), full(p.Variance.Mean), full(p.Variance.SE),
 		full(p.VarianceData.Mean), full(p.VarianceData.SE), full(p.VarianceModel.Mean), full(p.VarianceModel.SE),

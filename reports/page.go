@@ -123,8 +123,8 @@ func writeSummary(b *bytes.Buffer, r *runner.Result) {
 	}
 	b.WriteString("\n")
 	if heavy {
-		fmt.Fprintf(b, "`!`: the mean is carried by a few seeds (the largest %d of %d carry half the total risk) and is "+
-			"not a stable summary; the median is given beside it.\n", heavyCount(r.Seeds), r.Seeds)
+		fmt.Fprintf(b, "`!`: the mean is carried by a few seeds (%s) and is "+
+			"not a stable summary; the median is given beside it.\n", heavyPhrase(r.Seeds))
 	}
 	fmt.Fprintf(b, "Peak and minimum are over the mean risk at each grid value, ± its standard error over seeds. "+
 		"The interpolation threshold is the first grid value, in order of growing capacity, at which at least half "+

@@ -438,6 +438,14 @@ var linearInFeatures = map[string]bool{
 // at a flagged point: ⌈S/20⌉ (see the README's definition of the flag).
 func heavyCount(seeds int) int { return (seeds + 19) / 20 }
 
+// heavyPhrase says which seeds carry half the total risk at a flagged point.
+func heavyPhrase(seeds int) string {
+	if k := heavyCount(seeds); k > 1 {
+		return fmt.Sprintf("the largest %d of %d seeds carry half the total risk", k, seeds)
+	}
+	return fmt.Sprintf("one seed of %d carries half the total risk", seeds)
+}
+
 // num formats a value for a caption or legend with 3 significant digits.
 func num(x float64) string {
 	if math.IsNaN(x) || math.IsInf(x, 0) {

@@ -180,9 +180,9 @@ func riskFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 	}
 	cap = append(cap, "Risk: "+riskText(r)+"; "+bandText+".")
 	if heavy {
-		cap = append(cap, fmt.Sprintf("At heavy-tailed points (the largest %d of %d seeds carry half the total risk) the mean is unstable: "+
+		cap = append(cap, fmt.Sprintf("At heavy-tailed points (%s) the mean is unstable: "+
 			"it is drawn as an open circle, off the line and without a band; the diamond and its bar give the median and q1–q3, the numbers to read.",
-			heavyCount(r.Seeds), r.Seeds))
+			heavyPhrase(r.Seeds)))
 	}
 	if theory {
 		cap = append(cap, "Black dashes: the exact expected risk from a published formula, where one applies (result.json \"theory\"; the README lists the cases).")

@@ -128,8 +128,8 @@ func splitFigure(r *runner.Result, g geometry, cs curveSet) *figure {
 			strings.Join(negatives, "; ")+"), so the stack may end slightly above the line.")
 	}
 	if heavy {
-		cap = append(cap, fmt.Sprintf("Open circle: a heavy-tailed point (the largest %d of %d seeds carry half the total risk); its mean, and the variance part, are unstable.",
-			heavyCount(r.Seeds), r.Seeds))
+		cap = append(cap, fmt.Sprintf("Open circle: a heavy-tailed point (%s); its mean, and the variance part, are unstable.",
+			heavyPhrase(r.Seeds)))
 	}
 	if logAny {
 		note := "Log y axis: band heights are not proportional to the parts; read the boundaries (running sums)"
