@@ -39,7 +39,6 @@ const (
 	heatW   = 8 * vg.Inch
 	heatH   = 6 * vg.Inch
 	heatDPI = 120
-	heatPad = vg.Inch / 8
 )
 
 // HeatMaps draws, for a two-axis result, one heat map per model: the risk
@@ -325,10 +324,8 @@ type heatFigure struct {
 	sc heatScale
 }
 
-var heatFont = font.Font{Typeface: "Liberation", Variant: "Sans"}
-
 func heatText(size vg.Length, c color.Color) text.Style {
-	return text.Style{Color: c, Font: font.From(heatFont, size), Handler: plot.DefaultTextHandler,
+	return text.Style{Color: c, Font: font.From(sans, size), Handler: plot.DefaultTextHandler,
 		XAlign: draw.XCenter, YAlign: draw.YCenter}
 }
 
@@ -390,20 +387,20 @@ func (f *heatFigure) draw(dc draw.Canvas) {
 	cs := heatText(8.5, color.Gray{0x30})
 	cs.XAlign, cs.YAlign = draw.XLeft, draw.YBottom
 	lineH := cs.FontExtents().Height * 1.15
-	lines := heatWrap(cs, f.caption(), full.Size().X-2*heatPad)
-	capH := vg.Length(len(lines))*lineH + heatPad
-	y := full.Min.Y + capH - heatPad/2 - cs.FontExtents().Ascent
+	lines := wrap(cs, f.caption(), full.Size().X-2*pad)
+	capH := vg.Length(len(lines))*lineH + pad
+	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
 	for _, l := range lines {
-		dc.FillText(cs, vg.Point{X: full.Min.X + heatPad, Y: y}, l)
+		dc.FillText(cs, vg.Point{X: full.Min.X + pad, Y: y}, l)
 		y -= lineH
 	}
 	dc.StrokeLine2(draw.LineStyle{Color: color.Gray{0xb0}, Width: vg.Points(0.5)},
-		full.Min.X+heatPad, full.Min.Y+capH, full.Max.X-heatPad, full.Min.Y+capH)
+		full.Min.X+pad, full.Min.Y+capH, full.Max.X-pad, full.Min.Y+capH)
 
 	// Colour bar on the right, the map in the rest.
 	const barW = 1.25 * vg.Inch
-	f.drawBar(draw.Crop(dc, full.Size().X-barW, -heatPad, capH+heatPad, -heatPad))
-	f.drawMap(draw.Crop(dc, heatPad/2, -barW-heatPad, capH+heatPad/2, -heatPad/2))
+	f.drawBar(draw.Crop(dc, full.Size().X-barW, -pad, capH+pad, -pad))
+	f.drawMap(draw.Crop(dc, pad/2, -barW-pad, capH+pad/2, -pad/2))
 }
 
 // drawMap draws the cells with their axes and title into c.
@@ -411,12 +408,12 @@ func (f *heatFigure) drawMap(c draw.Canvas) {
 	g := f.g
 	p := plot.New()
 	p.Title.Text = fmt.Sprintf("%s: %s", g.label, riskWord(f.r))
-	p.Title.TextStyle.Font = font.From(heatFont, 12)
+	p.Title.TextStyle.Font = font.From(sans, 12)
 	p.X.Label.Text = knobAxis(f.r.Param)
 	p.Y.Label.Text = knobAxis(f.r.OuterParam)
 	for _, a := range []*plot.Axis{&p.X, &p.Y} {
-		a.Label.TextStyle.Font = font.From(heatFont, 10.5)
-		a.Tick.Label.Font = font.From(heatFont, 9)
+		a.Label.TextStyle.Font = font.From(sans, 10.5)
+		a.Tick.Label.Font = font.From(sans, 9)
 		a.Padding = 0
 	}
 	p.X.Min, p.X.Max = -0.5, float64(len(g.inner))-0.5
@@ -609,15 +606,15 @@ func (f *heatFigure) drawBar(c draw.Canvas) {
 	if f.sc.log {
 		p.Title.Text += "\n(log scale)"
 	}
-	p.Title.TextStyle.Font = font.From(heatFont, 9.5)
+	p.Title.TextStyle.Font = font.From(sans, 9.5)
 	p.HideX()
-	p.Y.Tick.Label.Font = font.From(heatFont, 9)
+	p.Y.Tick.Label.Font = font.From(sans, 9)
 	p.Y.Padding = 0
 	p.Y.Min, p.Y.Max = f.sc.lo, f.sc.hi
 	p.Y.Tick.Marker = plot.ConstantTicks(f.sc.ticks())
 	p.Add(&heatRamp{sc: f.sc})
 	// A narrow bar: leave room on its left for the tick labels only.
-	p.Draw(draw.Crop(c, heatPad, -0.45*vg.Inch, 0, 0))
+	p.Draw(draw.Crop(c, pad, -0.45*vg.Inch, 0, 0))
 }
 
 // heatRamp fills the colour bar with thin bands of the scale's colours.
@@ -641,25 +638,3 @@ func (h *heatRamp) Plot(c draw.Canvas, p *plot.Plot) {
 }
 
 func (h *heatRamp) DataRange() (xmin, xmax, ymin, ymax float64) { return 0, 1, h.sc.lo, h.sc.hi }
-
-// heatWrap breaks s into lines no wider than w in style sty, at spaces.
-func heatWrap(sty text.Style, s string, w vg.Length) []string {
-	var lines []string
-	cur := ""
-	for _, word := range strings.Fields(s) {
-		try := word
-		if cur != "" {
-			try = cur + " " + word
-		}
-		if cur != "" && sty.Width(try) > w {
-			lines = append(lines, cur)
-			cur = word
-			continue
-		}
-		cur = try
-	}
-	if cur != "" {
-		lines = append(lines, cur)
-	}
-	return lines
-}
