@@ -135,35 +135,14 @@ func orthonormalRow(basis string, t float64, q []float64) {
 // Path fits the path; see the type documentation. It panics if len(y) is
 // not the number of rows of x or Train.Test has other columns than x.
 func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
-	rows, d := checkShape(t.X, t.Y)
-	testRows := 0
-	if t.Test != nil {
-		var c int
-		testRows, c = t.Test.Dims()
-		if c != d {
-			panic(fmt.Sprintf("models: Train.Test has %d columns, X has %d", c, d))
-		}
-	}
 	fits := make([]Fit, len(values))
-	if err := p.check(); err != nil {
-		failAll(fits, fmt.Errorf("%w: %v", ErrParam, err))
-		return fits
-	}
-	if knob != spec.ParamDegree && knob != spec.ParamLambda && knob != spec.ParamNTrain {
-		failAll(fits, fmt.Errorf("%w: %q (accepted: %s, %s, %s)", ErrKnob, knob,
-			spec.ParamDegree, spec.ParamLambda, spec.ParamNTrain))
+	rows, d, testRows, ok := startDerived(t, fits, knob,
+		[3]string{spec.ParamDegree, spec.ParamLambda, spec.ParamNTrain}, p.check(), p.Lambda)
+	if !ok {
 		return fits
 	}
 	if d != 1 {
 		failAll(fits, fmt.Errorf("%w: polynomial regression takes one input column, x has %d (accepted: data with dim = 1)", ErrInput, d))
-		return fits
-	}
-	if knob != spec.ParamLambda && (!(p.Lambda >= 0) || math.IsInf(p.Lambda, 1)) {
-		failAll(fits, fmt.Errorf("%w: lambda = %v (accepted: a finite penalty ≥ 0)", ErrParam, p.Lambda))
-		return fits
-	}
-	if err := finiteSample(t.X, t.Y); err != nil {
-		failAll(fits, err)
 		return fits
 	}
 	tooBig := func(deg float64) bool { return deg+1 > float64(maxFeatureEntries/max(rows, testRows, 1)) }
@@ -184,12 +163,7 @@ func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
 		}
 		idx, sub := validValues(cols)
 		inner := NewTrain(p.basis(t.X, top-1), t.Y)
-		var got []Fit
-		if p.Lambda == 0 {
-			got = (&LeastSquares{}).Path(inner, spec.ParamFeatures, sub)
-		} else {
-			got = (&Ridge{Lambda: p.Lambda}).Path(inner, spec.ParamFeatures, sub)
-		}
+		got := linearPath(inner, spec.ParamFeatures, sub, p.Lambda)
 		for j, i := range idx {
 			fits[i] = got[j]
 		}
@@ -202,16 +176,7 @@ func (p *Polynomial) Path(t *Train, knob string, values []float64) []Fit {
 		return fits
 	}
 	inner := NewTrain(p.basis(t.X, p.Degree), t.Y)
-	var got []Fit
-	switch {
-	case knob == spec.ParamLambda:
-		got = (&Ridge{}).Path(inner, knob, values)
-	case p.Lambda == 0:
-		got = (&LeastSquares{}).Path(inner, knob, values)
-	default:
-		got = (&Ridge{Lambda: p.Lambda}).Path(inner, knob, values)
-	}
-	copy(fits, got)
+	copy(fits, linearPath(inner, knob, values, p.Lambda))
 	finishDerived(fits, t.Test, p.design, one)
 	return fits
 }

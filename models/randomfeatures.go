@@ -185,31 +185,10 @@ func (fm *featureMap) apply(x *mat.Dense, n int, mult float64) *mat.Dense {
 // Path fits the path; see the type documentation. It panics if len(y) is
 // not the number of rows of x or Train.Test has other columns than x.
 func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
-	rows, d := checkShape(t.X, t.Y)
-	testRows := 0
-	if t.Test != nil {
-		var c int
-		testRows, c = t.Test.Dims()
-		if c != d {
-			panic(fmt.Sprintf("models: Train.Test has %d columns, X has %d", c, d))
-		}
-	}
 	fits := make([]Fit, len(values))
-	if err := rf.check(); err != nil {
-		failAll(fits, fmt.Errorf("%w: %v", ErrParam, err))
-		return fits
-	}
-	if knob != spec.ParamFeatures && knob != spec.ParamLambda && knob != spec.ParamNTrain {
-		failAll(fits, fmt.Errorf("%w: %q (accepted: %s, %s, %s)", ErrKnob, knob,
-			spec.ParamFeatures, spec.ParamLambda, spec.ParamNTrain))
-		return fits
-	}
-	if knob != spec.ParamLambda && (!(rf.Lambda >= 0) || math.IsInf(rf.Lambda, 1)) {
-		failAll(fits, fmt.Errorf("%w: lambda = %v (accepted: a finite penalty ≥ 0)", ErrParam, rf.Lambda))
-		return fits
-	}
-	if err := finiteSample(t.X, t.Y); err != nil {
-		failAll(fits, err)
+	rows, d, testRows, ok := startDerived(t, fits, knob,
+		[3]string{spec.ParamFeatures, spec.ParamLambda, spec.ParamNTrain}, rf.check(), rf.Lambda)
+	if !ok {
 		return fits
 	}
 	tooBig := func(n int) bool { return n > maxFeatureEntries/max(rows, testRows, 1) }
@@ -262,19 +241,56 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 	fm := drawFeatures(stream, rf.Activation, rf.Scale, d, n)
 	mult := 1 / math.Sqrt(float64(n))
 	inner := NewTrain(fm.apply(t.X, n, mult), t.Y)
-	var got []Fit
-	switch {
-	case knob == spec.ParamLambda:
-		got = (&Ridge{}).Path(inner, knob, values)
-	case rf.Lambda == 0:
-		got = (&LeastSquares{}).Path(inner, knob, values)
-	default:
-		got = (&Ridge{Lambda: rf.Lambda}).Path(inner, knob, values)
-	}
-	copy(fits, got)
+	copy(fits, linearPath(inner, knob, values, rf.Lambda))
 	finishDerived(fits, t.Test, func(x *mat.Dense, cols int) *mat.Dense { return fm.apply(x, cols, mult) },
 		func(int) float64 { return 1 })
 	return fits
+}
+
+// startDerived checks what the families fitted by least squares or ridge on
+// a derived design (a polynomial basis, random features) check before
+// fitting: the shapes (it panics if len(y) is not the number of rows of x
+// or Train.Test has other columns than x), the family's parameters (check),
+// the knob (one of knobs), a penalty that is not the knob, and a finite
+// sample. On a failure it fails every fit and returns ok false.
+func startDerived(t *Train, fits []Fit, knob string, knobs [3]string, check error, lambda float64) (rows, cols, testRows int, ok bool) {
+	rows, cols = checkShape(t.X, t.Y)
+	if t.Test != nil {
+		var c int
+		testRows, c = t.Test.Dims()
+		if c != cols {
+			panic(fmt.Sprintf("models: Train.Test has %d columns, X has %d", c, cols))
+		}
+	}
+	var err error
+	switch {
+	case check != nil:
+		err = fmt.Errorf("%w: %v", ErrParam, check)
+	case knob != knobs[0] && knob != knobs[1] && knob != knobs[2]:
+		err = fmt.Errorf("%w: %q (accepted: %s, %s, %s)", ErrKnob, knob, knobs[0], knobs[1], knobs[2])
+	case knob != spec.ParamLambda && (!(lambda >= 0) || math.IsInf(lambda, 1)):
+		err = fmt.Errorf("%w: lambda = %v (accepted: a finite penalty ≥ 0)", ErrParam, lambda)
+	default:
+		err = finiteSample(t.X, t.Y)
+	}
+	if err != nil {
+		failAll(fits, err)
+		return rows, cols, testRows, false
+	}
+	return rows, cols, testRows, true
+}
+
+// linearPath fits the derived design inner along a lambda or n_train knob:
+// ridge on a penalty grid, else least squares (minimum norm) at lambda 0
+// and ridge at lambda > 0.
+func linearPath(inner *Train, knob string, values []float64, lambda float64) []Fit {
+	switch {
+	case knob == spec.ParamLambda:
+		return (&Ridge{}).Path(inner, knob, values)
+	case lambda == 0:
+		return (&LeastSquares{}).Path(inner, knob, values)
+	}
+	return (&Ridge{Lambda: lambda}).Path(inner, knob, values)
 }
 
 // predictBlock is the number of test rows whose derived design (random
