@@ -232,8 +232,15 @@ models = %d
 // TestRunTestInputsMatchExact checks the test-input basis against the exact
 // one: least squares on the same draws, measured exactly (alone in its spec)
 // and on 4000 Monte Carlo test inputs (beside a non-linear family), agree
-// within 4 Monte Carlo SEs at every grid point.
+// within 4 Monte Carlo SEs at every grid point, under a fixed truth and
+// under a per-seed truth (each seed's f* evaluated at the test inputs).
 func TestRunTestInputsMatchExact(t *testing.T) {
+	for _, truth := range []string{spec.TruthFixed, spec.TruthPerSeed} {
+		t.Run(truth, func(t *testing.T) { testInputsMatchExact(t, truth) })
+	}
+}
+
+func testInputsMatchExact(t *testing.T, truth string) {
 	defer func(f func(spec.Model) (models.Fitter, error)) { newFitter = f }(newFitter)
 	newFitter = func(m spec.Model) (models.Fitter, error) {
 		if m.Family == spec.FamilyRandomFeatures {
@@ -249,6 +256,7 @@ n_train = 20
 n_test = 4000
 dim = 8
 noise = { sd = 0.5 }
+truth = "%s"
 [[model]]
 family = "least-squares"
 %s
@@ -258,8 +266,8 @@ values = [2, 5, 8]
 [seeds]
 count = 20
 `
-	exact, _ := mustRun(t, mustParse(t, fmt.Sprintf(base, "")), Options{Workers: 2})
-	mc, _ := mustRun(t, mustParse(t, fmt.Sprintf(base, "[[model]]\nfamily = \"random-features\"\n")), Options{Workers: 2})
+	exact, _ := mustRun(t, mustParse(t, fmt.Sprintf(base, truth, "")), Options{Workers: 2})
+	mc, _ := mustRun(t, mustParse(t, fmt.Sprintf(base, truth, "[[model]]\nfamily = \"random-features\"\n")), Options{Workers: 2})
 	if exact.RiskBasis != RiskExact || mc.RiskBasis != RiskMonteCarlo {
 		t.Fatalf("bases %q and %q, want exact and monte-carlo", exact.RiskBasis, mc.RiskBasis)
 	}
