@@ -123,11 +123,12 @@ type Point struct {
 	Errors []CellError `json:"errors,omitempty"`
 }
 
-// UnmarshalJSON reads a Point; a result.json written before the theory
-// field existed reads as having none (NaN, not 0).
+// UnmarshalJSON reads a Point; a number missing from the file (written
+// before the field existed) reads as undefined (NaN), not as 0.
 func (p *Point) UnmarshalJSON(b []byte) error {
 	type plain Point // without this method
-	q := plain{Theory: NaN}
+	nan := Estimate{NaN, NaN}
+	q := plain{Theory: NaN, RiskMCSE: NaN, CondMedian: NaN, VarianceData: nan, VarianceModel: nan}
 	if err := json.Unmarshal(b, &q); err != nil {
 		return err
 	}

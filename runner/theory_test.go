@@ -203,6 +203,9 @@ func TestPointTheoryJSON(t *testing.T) {
 	if !p.Theory.IsNaN() || p.Value != 10 || p.Risk.Mean != 1.5 {
 		t.Errorf("decoded %+v, want theory NaN, value 10, risk 1.5", p)
 	}
+	if !p.RiskMCSE.IsNaN() || !p.CondMedian.IsNaN() || !p.VarianceData.Mean.IsNaN() || !p.VarianceModel.SE.IsNaN() {
+		t.Errorf("decoded %+v, want the other fields added this cycle undefined too", p)
+	}
 	b, err := json.Marshal(p)
 	if err != nil || !strings.Contains(string(b), `"theory":null`) {
 		t.Errorf("encoded %s (%v), want theory null", b, err)
