@@ -151,7 +151,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	// not surface after an hour of work.
 	specs := make([]*spec.Spec, len(paths))
 	for i, p := range paths {
-		s, err := spec.Load(p)
+		s, err := loadSpec(p)
 		if err != nil {
 			fmt.Fprintln(stderr, err)
 			return exitBadInput
@@ -200,6 +200,32 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 	return status
+}
+
+// loadSpec loads a spec and, for a csv source, reads its data file (every
+// slice's, on a two-axis grid), so that a bad file is bad input found before
+// any fit rather than after the specs before it have run.
+func loadSpec(path string) (*spec.Spec, error) {
+	s, err := spec.Load(path)
+	if err != nil || s.Data.Source != spec.SourceCSV {
+		return s, err
+	}
+	slices := []*spec.Spec{s}
+	if o := s.Grid.Outer; o != nil {
+		slices = slices[:0]
+		for _, v := range o.Values {
+			slices = append(slices, s.At(v))
+		}
+	}
+	for _, sl := range slices {
+		if _, err := data.New(sl, sl.DataKey()); err != nil {
+			if strings.HasPrefix(err.Error(), s.Path+":") {
+				return nil, err
+			}
+			return nil, fmt.Errorf("%s: %w", s.Path, err)
+		}
+	}
+	return s, nil
 }
 
 // resultDirName names a result folder by the spec's name (spec.Load
@@ -323,7 +349,7 @@ func cmdCheck(args []string, stdout, stderr io.Writer) int {
 		fs.Usage()
 		return exitBadInput
 	}
-	s, err := spec.Load(paths[0])
+	s, err := loadSpec(paths[0])
 	if err != nil {
 		fmt.Fprintln(stderr, err)
 		return exitBadInput

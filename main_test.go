@@ -333,3 +333,38 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 		}
 	}
 }
+
+// A bad data file is bad input like a bad spec: check reports it, and run
+// reports it before fitting any spec, so `run good.toml bad.toml` writes
+// nothing (README: run "checks every spec first"; check "validates a spec").
+func TestBadDataFileCaughtBeforeAnyFit(t *testing.T) {
+	dir := t.TempDir()
+	writeSpec(t, dir, "d.csv", "a,b,y\n1,2,3\n4,x,6\n7,8,9\n1,1,1\n2,2,2\n")
+	bad := writeSpec(t, dir, "csv.toml", `name = "csv"
+[data]
+source = "csv"
+file = "d.csv"
+target = "y"
+n_test = 2
+n_train = 2
+[[model]]
+family = "least-squares"
+[grid]
+param = "features"
+values = [1, 2]
+[seeds]
+count = 2
+`)
+	if status, _, stderr := runCLI("check", bad); status != exitBadInput || !strings.Contains(stderr, "d.csv:3") {
+		t.Errorf("check of a spec with a bad data file: status %d, stderr %q; want 2 and the file and row", status, stderr)
+	}
+	good := writeSpec(t, dir, "tiny.toml", tinySpec)
+	out := filepath.Join(dir, "out")
+	status, _, stderr := runCLI("run", good, bad, "-o", out)
+	if status != exitBadInput || !strings.Contains(stderr, "d.csv:3") {
+		t.Errorf("run good bad: status %d, stderr %q; want 2 and the file and row", status, stderr)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("run good bad: fitted the good spec before finding the bad data file (%s exists)", out)
+	}
+}
