@@ -88,7 +88,8 @@ func init() {
 //     has full numerical rank: the fit interpolates).
 //   - "cholesky": a single λ > 0 (the bandwidth and n_train knobs): K + nλI
 //     = UᵀU, α by two triangular solves, DF = n − nλ·tr((K + nλI)⁻¹) with
-//     tr(A⁻¹) = ‖U⁻¹‖_F². Cond is the a-priori bound ‖A‖₁√n/(nλ) ≥ κ₁(A), or
+//     tr(A⁻¹) = ‖U⁻¹‖_F², or, when that is below n/4 and the subtraction
+//     would lose digits, the positive sum tr(U⁻ᵀKU⁻¹). Cond is the a-priori bound ‖A‖₁√n/(nλ) ≥ κ₁(A), or
 //     LAPACK's 1-norm estimate when the bound exceeds 1e5 (see condMax).
 //     Unlike the Gram routes of Ridge, nothing is squared here: Cholesky
 //     and the eigendecomposition are backward-stable solves of the same
@@ -423,7 +424,11 @@ func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) []f
 				blas64.Vector{N: n, Inc: 1, Data: alpha}, 0, blas64.Vector{N: n, Inc: 1, Data: ka})
 			norm2 := blas64.Dot(blas64.Vector{N: n, Inc: 1, Data: alpha}, blas64.Vector{N: n, Inc: 1, Data: ka})
 			if tr, ok := traceInv(u); ok {
-				return w.finish(n, alpha, rss, norm2, float64(n)-nl*tr, cond, "cholesky", f)
+				df := float64(n) - nl*tr
+				if df < float64(n)/4 {
+					df = w.kernelDF(km, n, u)
+				}
+				return w.finish(n, alpha, rss, norm2, df, cond, "cholesky", f)
 			}
 		}
 	}
@@ -433,6 +438,27 @@ func (w *kernelSolver) single(km *kernelMats, n int, lambda float64, f *Fit) []f
 		return nil
 	}
 	return w.eigenFit(e, km, n, lambda, f)
+}
+
+// kernelDF returns df = tr(K(K + nλI)⁻¹) = tr(VᵀKV) = Σ_j v_jᵀKv_j for
+// A = K + nλI = UᵀU and v the columns of V = U⁻¹ (v holds U⁻¹, as
+// traceInv leaves it): a sum of quadratic forms in the positive
+// semi-definite K, without the cancellation of n − nλ·tr(A⁻¹) when df is
+// small beside n (as finishRidge does for Ridge).
+func (w *kernelSolver) kernelDF(km *kernelMats, n int, v blas64.Triangular) float64 {
+	kv := grow(&w.svdA, n*n)
+	for i := range n {
+		copy(kv[i*n:(i+1)*n], km.k[i*km.stride:i*km.stride+n])
+	}
+	b := blas64.General{Rows: n, Cols: n, Stride: n, Data: kv}
+	blas64.Trmm(blas.Right, blas.NoTrans, 1, v, b) // K V
+	var df float64
+	for i := range n {
+		// Row i of V is zero left of the diagonal.
+		df += blas64.Dot(blas64.Vector{N: n - i, Inc: 1, Data: v.Data[i*v.Stride+i : i*v.Stride+n]},
+			blas64.Vector{N: n - i, Inc: 1, Data: kv[i*n+i : i*n+n]})
+	}
+	return df
 }
 
 // finish fills f from the dual coefficients α of the fit on the first n

@@ -600,3 +600,45 @@ func TestKernelRidgeCholeskyFallback(t *testing.T) {
 		t.Errorf("cond = %g, want > 1/eps for nλ below the rounding of K", single.Cond)
 	}
 }
+
+// TestKernelRidgeCholeskyDFSmall: with a large penalty the fit has few
+// degrees of freedom, and the Cholesky route must not lose them to the
+// subtraction df = n − nλ·tr((K + nλI)⁻¹), which cancels to about n·eps
+// absolute (measured before the fix: 1e-7 relative at λ = 1e6, 7e-5 at
+// λ = 1e9, n = 100). Reference: df = Σ_j μ_j/(μ_j + nλ) over the
+// eigenvalues of K, a sum of positive terms (The Elements of Statistical
+// Learning, 2nd ed., 2009, eq. (3.50), textbook), with μ_j from gonum's
+// mat.EigenSym on K built by the defining formula. Tolerance: relative
+// 1e-10, n·eps·(a few hundred) for sums of n positive terms.
+func TestKernelRidgeCholeskyDFSmall(t *testing.T) {
+	const n, h = 100, 0.5
+	x, y := uniform(5, n, 2, 1)
+	k := kernelMatrix(KernelGaussian, h, x, x)
+	sym := mat.NewSymDense(n, nil)
+	for i := range n {
+		for j := i; j < n; j++ {
+			sym.SetSym(i, j, k.At(i, j))
+		}
+	}
+	var eig mat.EigenSym
+	if !eig.Factorize(sym, false) {
+		t.Fatal("reference eigendecomposition failed")
+	}
+	mu := eig.Values(nil)
+	for _, l := range []float64{1e3, 1e6, 1e9} {
+		var want float64
+		for _, m := range mu {
+			want += max(m, 0) / (max(m, 0) + n*l)
+		}
+		f := (&KernelRidge{Bandwidth: h, Lambda: l}).Path(NewTrain(x, y), spec.ParamBandwidth, []float64{h})[0]
+		if f.Err != nil {
+			t.Fatal(f.Err)
+		}
+		if f.Method != "cholesky" {
+			t.Fatalf("λ=%g: method %s, want cholesky", l, f.Method)
+		}
+		if e := math.Abs(f.DF-want) / want; !(e <= 1e-10) {
+			t.Errorf("λ=%g: df = %.17g, reference Σμ/(μ+nλ) = %.17g (rel. error %.2g, want ≤ 1e-10)", l, f.DF, want, e)
+		}
+	}
+}
