@@ -135,7 +135,7 @@ func TestParseErrors(t *testing.T) {
 		// Impossible values.
 		{"bad name", pieces{top: "name = \"a/b\" #<\n"}, "name", "cannot name a folder (accepted: 1 to 100 letters"},
 		{"n_train 0", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 0 #<\ndim = 50\nnoise = { sd = 0.5 }\n"}, "data.n_train", "got 0 (accepted: an integer ≥ 1)"},
-		{"n_test negative", pieces{data: gen("n_test = -1 #<")}, "data.n_test", "got -1 (accepted: an integer ≥ 0)"},
+		{"n_test zero", pieces{data: gen("n_test = 0 #<")}, "data.n_test", "got 0 (accepted: an integer ≥ 1, the test inputs drawn)"},
 		{"dim 0", pieces{data: "[data]\nsource = \"linear-gaussian\"\nn_train = 20\ndim = 0 #<\nnoise = { sd = 0.5 }\n"}, "data.dim", "got 0 (accepted: an integer ≥ 1)"},
 		{"features 0", pieces{grid: "[grid]\nparam = \"features\"\nvalues = [0, 10] #<\n"}, "grid.values", "element 1 is 0 (accepted: whole numbers ≥ 1)"},
 		{"features fractional", pieces{grid: "[grid]\nparam = \"features\"\nvalues = [10.5] #<\n"}, "grid.values", "element 1 is 10.5 (accepted: whole numbers ≥ 1)"},

@@ -227,7 +227,7 @@ func (d *decoder) data(t table, s *Spec, f *facts) error {
 }
 
 func (d *decoder) generator(t table, D *Data) error {
-	n, ok, err := d.integer(t, "n_test", 0, maxInt, "an integer ≥ 0")
+	n, ok, err := d.integer(t, "n_test", 1, maxInt, "an integer ≥ 1, the test inputs drawn")
 	if err != nil {
 		return err
 	}

@@ -149,7 +149,7 @@ func TestLogGridThroughParse(t *testing.T) {
 var roundTripSpecs = map[string]string{
 	"minimal": pieces{}.src(),
 	"power-law, top, student-t": pieces{
-		data:  "[data]\nsource = \"linear-gaussian\"\nn_train = 30\nn_test = 0\ndim = 60\ntruth = \"per-seed\"\n[data.spectrum]\nkind = \"power-law\"\nexponent = 1.5\n[data.signal]\nkind = \"top\"\ntop = 5\nnorm = 2.25\n[data.noise]\nkind = \"student-t\"\nsd = 0.3\ndf = 2.5\n",
+		data:  "[data]\nsource = \"linear-gaussian\"\nn_train = 30\nn_test = 1\ndim = 60\ntruth = \"per-seed\"\n[data.spectrum]\nkind = \"power-law\"\nexponent = 1.5\n[data.signal]\nkind = \"top\"\ntop = 5\nnorm = 2.25\n[data.noise]\nkind = \"student-t\"\nsd = 0.3\ndf = 2.5\n",
 		model: "[[model]]\nfamily = \"ridge\"\nlambda = 0.1\nintercept = true\nlabel = \"r \\\"quoted\\\" \\t λ\"\n[[model]]\nfamily = \"least-squares\"\n",
 		grid:  "[grid]\nparam = \"features\"\nfrom = 2\nto = 60\npoints = 9\nspacing = \"log\"\ninclude = [30]\n",
 		seeds: "[seeds]\ncount = 50\nstart = 1000\ntruth = 7\n",

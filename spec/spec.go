@@ -46,7 +46,7 @@ type Data struct {
 	NTrain int `toml:"n_train"`
 	// NTest is the number of fixed test inputs (generator) or the size of the
 	// held-out test set (csv, exclusive with TestFraction; see TestSize).
-	// Generator default 1000, ≥ 0; csv ≥ 1 when given, else 0; curve: the
+	// Generator default 1000, ≥ 1; csv ≥ 1 when given, else 0; curve: the
 	// number of quadrature nodes, default 2048, ≥ 2; teacher: Monte Carlo
 	// test inputs, default 10000, ≥ 2.
 	NTest int `toml:"n_test"`
