@@ -53,7 +53,7 @@ const (
 // maps of all models, so two maps compare colour for colour. Cells are
 // labelled with their value to two significant digits when they are large
 // enough to hold it. On a features × n_train grid a dashed line marks the
-// interpolation threshold p = n. The caption gives the spec name, the
+// interpolation threshold p = n (p + 1 = n with an intercept). The caption gives the spec name, the
 // short hash, the engine and the seeds.
 //
 // A one-axis result has no heat map: HeatMaps returns nil.
@@ -373,7 +373,11 @@ func (f *heatFigure) caption() string {
 		b.WriteString(" Grey: no successful fit.")
 	}
 	if _, ok := f.threshold(); ok {
-		b.WriteString(" Dashed line: the interpolation threshold p = n.")
+		if f.intercept() {
+			b.WriteString(" Dashed line: the interpolation threshold p + 1 = n (p features and the intercept).")
+		} else {
+			b.WriteString(" Dashed line: the interpolation threshold p = n.")
+		}
 	}
 	fmt.Fprintf(&b, " Spec %s, hash %s, engine %s.", r.Name, shortHash(r.Hash), r.Engine)
 	return b.String()
@@ -541,8 +545,8 @@ func inkOn(c color.Color) color.Color {
 	return color.White
 }
 
-// threshold returns the line p = n in cell coordinates on a features ×
-// n_train grid (either way round): per row, the column position of the
+// threshold returns the line p = n (p + 1 = n with an intercept) in cell
+// coordinates on a features × n_train grid (either way round): per row, the column position of the
 // row's value among the columns, by linear interpolation of the index in
 // the logarithm of the values (rows whose value lies outside the columns'
 // range are left out). False when the grid is not features × n_train or
@@ -553,9 +557,17 @@ func (f *heatFigure) threshold() ([][2]float64, bool) {
 	if pair != spec.ParamFeatures+"×"+spec.ParamNTrain && pair != spec.ParamNTrain+"×"+spec.ParamFeatures {
 		return nil, false
 	}
+	// With an intercept a fit has p + 1 parameters: the line is p + 1 = n.
+	k := 0.0
+	if f.intercept() {
+		k = 1
+	}
+	if r.Param == spec.ParamNTrain {
+		k = -k // inner n, outer p: the column of n = p + 1
+	}
 	var pts [][2]float64
 	for i, v := range g.outer {
-		if x, ok := indexOf(g.inner, v); ok {
+		if x, ok := indexOf(g.inner, v-k); ok {
 			pts = append(pts, [2]float64{x, float64(i)})
 		}
 	}
@@ -582,6 +594,9 @@ func (f *heatFigure) threshold() ([][2]float64, bool) {
 	}
 	return pts, true
 }
+
+// intercept reports whether the map's model fits an intercept.
+func (f *heatFigure) intercept() bool { return newGeometry(f.r).icept[f.g.label] }
 
 // indexOf places v among the sorted positive values vs: the fractional
 // index, linear in log v between neighbours; false outside [vs[0], vs[n-1]].

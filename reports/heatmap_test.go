@@ -239,3 +239,24 @@ func TestHeatSlug(t *testing.T) {
 		}
 	}
 }
+
+// TestHeatThresholdIntercept: with an intercept a linear fit has p + 1
+// parameters, so it interpolates from p + 1 = n (as the risk figure marks
+// it): the line at row n passes through p = n − 1, and the caption says so.
+func TestHeatThresholdIntercept(t *testing.T) {
+	r := thresholdResult()
+	g := heatGrids(r)[0] // p = 10, 40, 50, 60, 200; n = 50, 100
+	r.SpecTOML += "\n[[model]]\nlabel = \"" + g.label + "\"\nintercept = true\n"
+	f := &heatFigure{r: r, g: g}
+	pts, ok := f.threshold()
+	if !ok || len(pts) != 4 {
+		t.Fatalf("threshold %v, %v; want 4 points", pts, ok)
+	}
+	want49 := 1 + math.Log(49.0/40)/math.Log(50.0/40) // n = 50: p = 49, between 40 and 50
+	if math.Abs(pts[1][0]-want49) > 1e-12 || pts[1][1] != 0 {
+		t.Errorf("row n = 50 at %v; want (%v, 0), the column of p = 49", pts[1], want49)
+	}
+	if c := f.caption(); !strings.Contains(c, "p + 1 = n") {
+		t.Errorf("caption of a model with an intercept %q; want the threshold p + 1 = n", c)
+	}
+}
