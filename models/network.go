@@ -75,7 +75,8 @@ const netMaxCells = 1 << 26
 // a_k), so the first m units of a wider network are the units of the
 // width-m network (initialisation nested across widths); the batches from
 // "two-layer-net batches", restarted for every training run, so every
-// width and every n_train sees the same batch sequence. Given the streams
+// width sees the same batch sequence (an n_train value draws its batches
+// from its own first n rows, so those sequences differ). Given the streams
 // the computation is deterministic (blas64 Gemm for the forward and
 // backward passes, whose result does not depend on its internal
 // goroutines).
