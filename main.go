@@ -163,6 +163,12 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		}
 		specs[i] = s
 	}
+	// The output root must take the cache and the result folders: find out
+	// before fitting, not after every seed has been fitted for nothing.
+	if err := os.MkdirAll(filepath.Join(*out, ".cache"), 0o755); err != nil {
+		fmt.Fprintf(stderr, "riskgrid run: -o %s: cannot write there: %v\n", *out, err)
+		return exitFailed
+	}
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
 	status := exitOK

@@ -368,3 +368,19 @@ count = 2
 		t.Errorf("run good bad: fitted the good spec before finding the bad data file (%s exists)", out)
 	}
 }
+
+// An output root that cannot be a folder fails the run before any fit:
+// exit 1 (the output could not be written), one error naming it, and no
+// per-seed cache warnings from seeds fitted for nothing.
+func TestRunUnwritableOutputFailsFirst(t *testing.T) {
+	dir := t.TempDir()
+	sp := writeSpec(t, dir, "tiny.toml", tinySpec)
+	out := writeSpec(t, dir, "afile", "not a folder\n")
+	status, _, stderr := runCLI("run", sp, "-o", out, "-j", "1")
+	if status != exitFailed {
+		t.Errorf("status %d, want %d", status, exitFailed)
+	}
+	if strings.Contains(stderr, "warning") || strings.Count(stderr, "\n") != 1 || !strings.Contains(stderr, out) {
+		t.Errorf("stderr %q; want one line naming %s, before any seed is fitted", stderr, out)
+	}
+}
