@@ -18,8 +18,11 @@ import (
 // (spec.Engine also salts the random streams, so bumping it redraws every
 // sample). Version 2: least squares now applies its shared QR by unblocked
 // Householder routines, as gonum v0.17.0's blocked ones lost accuracy on
-// designs with structured zeros (see models/leastsquares.go).
-const cacheMagic = "riskgrid-cache/2\n"
+// designs with structured zeros (see models/leastsquares.go). Version 3:
+// entries of version 2 may hold least-squares cells of the other risk basis
+// (predictions under an exact key, or coefficients under a test-input one),
+// written before the basis entered the entry key (TestCacheKeepsRiskBasisApart).
+const cacheMagic = "riskgrid-cache/3\n"
 
 // entry holds every cell computed for one seed of one data distribution,
 // across models, knobs and grid values. Cells are keyed by cellKey.
