@@ -52,7 +52,7 @@ type PointSums struct {
 	TrainRisk []float64 `json:"train_risk"`
 	Norm      []float64 `json:"norm"`
 	DF        Floats    `json:"df"`            // NaN (null) for a family with no df
-	Interp    int       `json:"interpolating"` // seeds whose fit interpolates
+	Interp    int       `json:"interpolating"` // fits that interpolate (S·M of them for a randomized family under model seeds)
 	// SumDev is Σ_s e_s (coefficient space with the intercept last, or the
 	// test inputs); SumSqDev is Σ_s ⟨e_s, e_s⟩.
 	SumDev   []float64 `json:"sum_dev"`
