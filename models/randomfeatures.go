@@ -250,7 +250,9 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 // startDerived checks what the families fitted by least squares or ridge on
 // a derived design (a polynomial basis, random features) check before
 // fitting: the shapes (it panics if len(y) is not the number of rows of x
-// or Train.Test has other columns than x), the family's parameters (check),
+// or Train.Test has other columns than x; testRows is the number of test
+// rows whose design is held at once, at most predictBlock), the family's
+// parameters (check),
 // the knob (one of knobs), a penalty that is not the knob, and a finite
 // sample. On a failure it fails every fit and returns ok false.
 func startDerived(t *Train, fits []Fit, knob string, knobs [3]string, check error, lambda float64) (rows, cols, testRows int, ok bool) {
@@ -261,6 +263,9 @@ func startDerived(t *Train, fits []Fit, knob string, knobs [3]string, check erro
 		if c != cols {
 			panic(fmt.Sprintf("models: Train.Test has %d columns, X has %d", c, cols))
 		}
+		// The test design is held predictBlock rows at a time (see
+		// finishDerived): that is what the size limits count.
+		testRows = min(testRows, predictBlock)
 	}
 	var err error
 	switch {

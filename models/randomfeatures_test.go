@@ -411,3 +411,31 @@ func TestRandomFeaturesKernelRidgeLimit(t *testing.T) {
 		t.Errorf("relative prediction errors %.3g (N = 2500), %.3g (N = 40000); want the second < 0.02 and at most half the first", errs[0], errs[1])
 	}
 }
+
+// The predictions are made predictBlock test rows at a time, so the size
+// limit on the feature matrix concerns the training rows and one block of
+// test rows, not all test inputs: 40000 Monte Carlo test inputs must not
+// turn N = 4000 (30 × 4000 training features, 256 × 4000 per block) into a
+// size error, as they did when the limit counted every test row
+// (2^27/40000 < 4000). The predictions at the first 300 test inputs (two
+// blocks) are checked against the same fit given only those.
+func TestRandomFeaturesManyTestInputs(t *testing.T) {
+	const n, m, N = 30, 40000, 4000
+	x, y := gaussian(51, n, 1)
+	test, _ := gaussian(52, m, 1)
+	rf := &RandomFeatures{Scale: 1, Activation: ActivationReLU}
+	fit := func(z *mat.Dense) Fit {
+		tr := NewTrain(x, y)
+		tr.Test = z
+		tr.SetSeeds("many", 1, 1)
+		return rf.Path(tr, spec.ParamFeatures, []float64{N})[0]
+	}
+	f := fit(test)
+	if f.Err != nil {
+		t.Fatalf("N = %d with %d test inputs: %v", N, m, f.Err)
+	}
+	a := fit(test.Slice(0, 300, 0, 1).(*mat.Dense))
+	if a.Err != nil || !slices.Equal(f.Pred[:300], a.Pred) {
+		t.Errorf("predictions at the first 300 test inputs differ from a fit given only those (error %v)", a.Err)
+	}
+}
