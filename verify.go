@@ -14,6 +14,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"runtime"
+	"strings"
 	"syscall"
 
 	"riskgrid/reports"
@@ -126,8 +127,16 @@ func cmdVerify(args []string, stdout, stderr io.Writer) int {
 		notes = append(notes, "no sums.json in the result folder: per-seed values are not compared")
 	}
 	if stored.Hash != s.Hash() {
-		notes = append(notes, fmt.Sprintf("the stored result has spec hash %s, the spec recomputed here %s (a different engine version or data file; see above)",
-			short(stored.Hash), short(s.Hash())))
+		var why []string
+		if stored.Engine != spec.Engine {
+			why = append(why, "a different engine version")
+		}
+		if s.Data.Source == spec.SourceCSV {
+			why = append(why, "a different data file")
+		}
+		why = append(why, "a stored spec_toml edited since, or resolved otherwise by this build")
+		notes = append(notes, fmt.Sprintf("the stored result has spec hash %s, the spec recomputed here %s (%s; see above)",
+			short(stored.Hash), short(s.Hash()), strings.Join(why, ", or ")))
 	}
 
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)

@@ -255,3 +255,18 @@ func TestVerifyCSV(t *testing.T) {
 		t.Errorf("a data file with CRLF line endings: status %d, want 0 and the data file named:\n%s", status, stdout)
 	}
 }
+
+// A stored spec_toml that no longer hashes to the stored hash, on the same
+// engine and without a data file, was edited: the note must say so rather
+// than blame an engine or data file that did not change.
+func TestVerifyEditedSpecNote(t *testing.T) {
+	dir := t.TempDir()
+	_, res := runTiny(t, dir)
+	editJSON(t, filepath.Join(res, "result.json"), func(m map[string]any) {
+		m["spec_toml"] = strings.Replace(m["spec_toml"].(string), "sd = 0.5", "sd = 0.5000001", 1)
+	})
+	_, stdout, _ := runCLI("verify", res)
+	if !strings.Contains(stdout, "spec hash") || !strings.Contains(stdout, "spec_toml") {
+		t.Errorf("the note on a changed hash should point at the stored spec_toml:\n%s", stdout)
+	}
+}
