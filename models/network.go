@@ -94,7 +94,8 @@ const netMaxCells = 1 << 26
 // Failures are per fit: a step whose loss or parameters are not finite
 // (a step size too large) makes that step count and every later one an
 // ErrDiverge error naming the step; earlier step counts keep their fits.
-// A width whose activations would exceed 2²⁶ values is an ErrValue error.
+// A width whose activations would exceed 2²⁶ values is an ErrValue error;
+// a NaN or infinite training or test input, ErrNotFinite.
 type TwoLayerNet struct {
 	// Width is the number m of hidden units for the steps and n_train
 	// knobs (the width knob overrides it).
@@ -329,6 +330,12 @@ func (nt *TwoLayerNet) train(t *Train, n, m int, ks []int, fits []Fit) {
 			set(fmt.Errorf("%w: y[%d] = %v", ErrNotFinite, i, v))
 			return
 		}
+	}
+	// A NaN input would pass the relu as inactive (NaN > 0 is false) and
+	// predict a finite value: refuse it.
+	if err := finiteTest(t.Test); err != nil {
+		set(err)
+		return
 	}
 	batch := nt.Batch
 	method := "minibatch"

@@ -401,3 +401,29 @@ func TestNetworkLazy(t *testing.T) {
 	}
 	t.Logf("relative change %.4g (m=64), %.4g (m=4096); loss ratio %.3g, %.3g", rel[64], rel[4096], drop[64], drop[4096])
 }
+
+// A non-finite test input is bad input, ErrNotFinite, as for kernel ridge
+// and k-NN; not a divergence with the advice to take a smaller step size
+// (which the network reported), nor a numerical failure (random features,
+// polynomials).
+func TestNonFiniteTestInput(t *testing.T) {
+	x, y, test := netSample(3, 12, 1, 4)
+	test.Set(2, 0, math.NaN())
+	for _, tc := range []struct {
+		name string
+		f    Fitter
+		knob string
+		v    float64
+	}{
+		{"two-layer-net", &TwoLayerNet{Width: 4, Steps: 3, StepSize: 0.1, InitScale: 1}, spec.ParamWidth, 4},
+		{"random-features", &RandomFeatures{Scale: 1, Activation: ActivationReLU}, spec.ParamFeatures, 5},
+		{"polynomial", &Polynomial{Low: -1, High: 1, Basis: BasisLegendre}, spec.ParamDegree, 3},
+		{"kernel-ridge", &KernelRidge{Lambda: 0.1}, spec.ParamBandwidth, 1},
+		{"nearest-neighbours", &Neighbours{}, spec.ParamNeighbours, 2},
+	} {
+		f := tc.f.Path(netTrain(x, y, test, 1), tc.knob, []float64{tc.v})[0]
+		if !errors.Is(f.Err, ErrNotFinite) {
+			t.Errorf("%s: NaN test input: err = %v, want ErrNotFinite", tc.name, f.Err)
+		}
+	}
+}

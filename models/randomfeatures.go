@@ -252,9 +252,9 @@ func (rf *RandomFeatures) Path(t *Train, knob string, values []float64) []Fit {
 // fitting: the shapes (it panics if len(y) is not the number of rows of x
 // or Train.Test has other columns than x; testRows is the number of test
 // rows whose design is held at once, at most predictBlock), the family's
-// parameters (check),
-// the knob (one of knobs), a penalty that is not the knob, and a finite
-// sample. On a failure it fails every fit and returns ok false.
+// parameters (check), the knob (one of knobs), a penalty that is not the
+// knob, and a finite sample and test inputs. On a failure it fails every
+// fit and returns ok false.
 func startDerived(t *Train, fits []Fit, knob string, knobs [3]string, check error, lambda float64) (rows, cols, testRows int, ok bool) {
 	rows, cols = checkShape(t.X, t.Y)
 	if t.Test != nil {
@@ -276,7 +276,9 @@ func startDerived(t *Train, fits []Fit, knob string, knobs [3]string, check erro
 	case knob != spec.ParamLambda && (!(lambda >= 0) || math.IsInf(lambda, 1)):
 		err = fmt.Errorf("%w: lambda = %v (accepted: a finite penalty ≥ 0)", ErrParam, lambda)
 	default:
-		err = finiteSample(t.X, t.Y)
+		if err = finiteSample(t.X, t.Y); err == nil {
+			err = finiteTest(t.Test)
+		}
 	}
 	if err != nil {
 		failAll(fits, err)
@@ -368,6 +370,23 @@ func validValues(ns []int) (idx []int, vals []float64) {
 		}
 	}
 	return idx, vals
+}
+
+// finiteTest returns an ErrNotFinite error naming the first NaN or
+// infinity in the test inputs z (nil: none).
+func finiteTest(z *mat.Dense) error {
+	if z == nil {
+		return nil
+	}
+	r := z.RawMatrix()
+	for i := range r.Rows {
+		for j, v := range r.Data[i*r.Stride : i*r.Stride+r.Cols] {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("%w: test input [%d][%d] = %v", ErrNotFinite, i, j, v)
+			}
+		}
+	}
+	return nil
 }
 
 // finiteSample returns an ErrNotFinite error naming the first NaN or
