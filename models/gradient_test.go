@@ -208,20 +208,20 @@ func TestGradientMinNorm(t *testing.T) {
 		if want := s[0] / s[n-1]; math.Abs(fits[1].Cond-want) > 1e-9*want {
 			t.Errorf("seed %d: Cond = %v, want s_1/s_n = %v", seed, fits[1].Cond, want)
 		}
-		_ = L
-		// Early iterates of the literal recursion lie in the row space of
-		// X: their component outside it, b − X⁺X b, vanishes.
+		// Early iterates of the literal recursion (gdRecursion, not the
+		// family's closed form, which lies in the row space by
+		// construction) lie in the row space of X: their component
+		// outside it, b − X⁺X b, vanishes.
 		var pinv mat.Dense
 		var svd mat.SVD
 		svd.Factorize(x, mat.SVDThin)
 		var v mat.Dense
 		svd.VTo(&v)
 		pinv.Mul(&v, v.T()) // X⁺X = V Vᵀ, the projector on the row space
-		early := (&GradientDescent{}).Path(NewTrain(x, y), spec.ParamSteps, []float64{1, 5, 20})
-		for _, f := range early {
+		for _, b := range gdRecursion(x, y, 1/L, []int{1, 5, 20}) {
 			var proj mat.VecDense
-			proj.MulVec(&pinv, mat.NewVecDense(p, f.Coef))
-			if d := relDist(proj.RawVector().Data, f.Coef); d > 1e-12 {
+			proj.MulVec(&pinv, mat.NewVecDense(p, b))
+			if d := relDist(proj.RawVector().Data, b); d > 1e-12 {
 				t.Errorf("seed %d: an iterate has %.3g of its norm outside the row space of X", seed, d)
 			}
 		}
