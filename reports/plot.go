@@ -143,11 +143,12 @@ func slug(label string) string {
 // scale, the number of features and which models fit an intercept (read
 // back from the resolved spec, for the interpolation threshold).
 type geometry struct {
-	xName  string // axis label of the grid value
-	symbol string // short symbol of the knob ("p", "n", "λ")
-	logX   bool   // log x axis
-	log1pX bool   // log(1 + x) x axis: a log-spaced grid that starts at 0
-	dim    int    // features available, 0 when unknown
+	xName  string  // axis label of the grid value
+	symbol string  // short symbol of the knob ("p", "n", "λ")
+	logX   bool    // log x axis
+	log1pX bool    // log(x0 + x) x axis: a log-spaced grid that starts at 0
+	x0     float64 // the offset of that axis: 1, or the smallest positive value when below 1
+	dim    int     // features available, 0 when unknown
 	icept  map[string]bool
 }
 
@@ -161,9 +162,10 @@ func newGeometry(r *runner.Result) geometry {
 		}
 	}
 	g.logX = logSpaced(xs)
-	g.log1pX = !g.logX && log1pSpaced(xs)
+	g.x0 = zeroStartOffset(xs)
+	g.log1pX = !g.logX && log1pSpaced(xs, g.x0)
 	if g.log1pX {
-		g.xName += " (axis: log of 1 + " + g.symbol + ")"
+		g.xName += " (axis: log of " + knob(g.x0) + " + " + g.symbol + ")"
 	}
 	// The resolved spec names the dimension (generator) or the feature
 	// columns (csv) and each model's intercept. A result whose spec text
@@ -214,16 +216,35 @@ func logSpaced(vs []float64) bool {
 // reads better on a log(1 + x) axis: the values are ≥ 0, the positive ones
 // span at least a factor of 10, there are at least 4, and log(1 + x) is
 // closer to evenly spaced than x (as in logSpaced).
-func log1pSpaced(vs []float64) bool {
+func log1pSpaced(vs []float64, x0 float64) bool {
 	u := distinct(vs)
 	if len(u) < 4 || u[0] != 0 || math.IsInf(u[len(u)-1], 0) || u[len(u)-1]/u[1] < 10 {
 		return false
 	}
 	l := make([]float64, len(u))
 	for i, v := range u {
-		l[i] = math.Log1p(v)
+		l[i] = math.Log(x0 + v)
 	}
 	return rankFit(l) > rankFit(u)
+}
+
+// zeroStartOffset is the offset x0 of the log(x0 + x) axis of a grid that
+// starts at 0: 1 for counts (steps, degree); a tenth of the smallest
+// positive value where that is below 1 (a penalty grid 0, 1e-7, …, 1,
+// which log(1 + λ) would squeeze onto 0), so that each decade gets its
+// share of the axis and 0 sits a decade left of the smallest value, room
+// for both tick labels.
+func zeroStartOffset(vs []float64) float64 {
+	small := 1.0
+	for _, v := range vs {
+		if v > 0 && v < small && !math.IsNaN(v) {
+			small = v
+		}
+	}
+	if small < 1 {
+		return small / 10
+	}
+	return 1
 }
 
 // distinct returns the sorted distinct finite values of vs.

@@ -217,8 +217,8 @@ func newPanel(g geometry, ys yScale, yLabel string) *plot.Plot {
 		p.X.Scale = plot.LogScale{}
 		p.X.Tick.Marker = logTicks{ends: true}
 	case g.log1pX:
-		p.X.Scale = log1pScale{}
-		p.X.Tick.Marker = log1pTicks{}
+		p.X.Scale = log1pScale{x0: g.x0}
+		p.X.Tick.Marker = log1pTicks{x0: g.x0}
 	}
 	if ys.log {
 		p.Y.Scale = plot.LogScale{}
@@ -495,22 +495,28 @@ func (linearTicks) Ticks(lo, hi float64) []plot.Tick {
 	return ticks
 }
 
-// log1pScale maps x to log(1 + x), normalised to [0, 1] over [min, max]:
-// a logarithmic axis that also shows 0.
-type log1pScale struct{}
+// log1pScale maps x to log(x0 + x), normalised to [0, 1] over [min, max]:
+// a logarithmic axis that also shows 0 (x0 = 1: log(1 + x)).
+type log1pScale struct{ x0 float64 }
 
-func (log1pScale) Normalize(min, max, x float64) float64 {
-	lo, hi := math.Log1p(min), math.Log1p(max)
-	return (math.Log1p(x) - lo) / (hi - lo)
+func (s log1pScale) Normalize(min, max, x float64) float64 {
+	f := func(v float64) float64 { return math.Log1p(v / s.x0) } // log(x0 + v) − log x0
+	lo, hi := f(min), f(max)
+	return (f(x) - lo) / (hi - lo)
 }
 
-// log1pTicks labels a log(1 + x) axis at 0 and as logTicks does above 1.
-type log1pTicks struct{}
+// log1pTicks labels a log(x0 + x) axis at 0 and as logTicks does from the
+// smallest positive grid value up.
+type log1pTicks struct{ x0 float64 }
 
-func (log1pTicks) Ticks(lo, hi float64) []plot.Tick {
+func (t log1pTicks) Ticks(lo, hi float64) []plot.Tick {
 	var ticks []plot.Tick
 	if lo <= 0 && hi >= 0 {
 		ticks = append(ticks, plot.Tick{Value: 0, Label: "0"})
 	}
-	return append(ticks, logTicks{ends: true}.Ticks(math.Max(lo, 1), hi)...)
+	from := t.x0 // 1; or, below 1, the smallest positive value, 10·x0
+	if from < 1 {
+		from *= 10
+	}
+	return append(ticks, logTicks{ends: true}.Ticks(math.Max(lo, from), hi)...)
 }

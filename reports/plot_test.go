@@ -440,3 +440,51 @@ func TestFiguresTwoAxis(t *testing.T) {
 		t.Errorf("split panels %d, second titled %q", len(f.panels), f.panels[1][0].Title.Text)
 	}
 }
+
+// TestZeroStartAxisSpreadsSmallValues: a log-spaced grid that starts at 0
+// gets a log axis that also shows 0. For step counts (0, 1, 10, …) that is
+// log(1 + x); for a penalty grid 0, 1e-7, …, 1 log(1 + λ) ≈ λ would put
+// every value below 0.01 on top of 0 (the kernel-penalty example's figure
+// showed its whole curve at one x), so the offset is a tenth of the smallest
+// positive value when that is below 1: each decade then gets its share.
+func TestZeroStartAxisSpreadsSmallValues(t *testing.T) {
+	r := synthetic()
+	r.Param = "lambda"
+	lams := []float64{0, 1e-7, 1e-6, 1e-5, 1e-4, 1e-3, 1e-2, 1e-1, 1}
+	for i := range r.Models {
+		var pts []runner.Point
+		for k, l := range lams {
+			p := r.Models[i].Points[k%len(r.Models[i].Points)]
+			p.Value = l
+			pts = append(pts, p)
+		}
+		r.Models[i].Points = pts
+	}
+	g := newGeometry(r)
+	if !g.log1pX {
+		t.Fatalf("a log-spaced penalty grid from 0 should get the log axis that shows 0")
+	}
+	p := newPanel(g, yScale{}, "risk")
+	sc := p.X.Scale
+	at := func(x float64) float64 { return sc.Normalize(0, 1, x) }
+	for k := 1; k+1 < len(lams); k++ {
+		if d := at(lams[k+1]) - at(lams[k]); d < 0.05 {
+			t.Errorf("λ = %g and %g are %.4f of the axis apart; want each decade visible", lams[k], lams[k+1], d)
+		}
+	}
+	if !strings.Contains(g.xName, "1e-08") {
+		t.Errorf("axis name %q should give the offset of the log axis", g.xName)
+	}
+	// Step counts keep log(1 + x).
+	r2 := synthetic()
+	r2.Param = "steps"
+	for i := range r2.Models {
+		for k := range r2.Models[i].Points {
+			r2.Models[i].Points[k].Value = []float64{0, 1, 10, 100, 1000}[k]
+		}
+	}
+	g2 := newGeometry(r2)
+	if got := newPanel(g2, yScale{}, "risk").X.Scale.Normalize(0, 1000, 1); !g2.log1pX || math.Abs(got-math.Log(2)/math.Log(1001)) > 1e-12 {
+		t.Errorf("steps axis at 1: %v, want log(2)/log(1001)", got)
+	}
+}
