@@ -112,12 +112,39 @@ func (f *figure) draw(dc draw.Canvas) {
 		drawPanel(f.panels[0][0], area)
 		return
 	}
-	tiles := draw.Tiles{Rows: rows, Cols: cols, PadX: pad, PadY: pad / 2}
+	// The panels' data areas line up (plot.Align), whatever the width of
+	// their y tick labels, so that one x value sits at one horizontal place
+	// in every panel of a column; each y-axis label goes in a strip of its
+	// own left of its tile, as drawPanel puts it.
+	lab := f.panels[0][0].Y.Label.TextStyle.FontExtents().Height + vg.Points(5)
+	tiles := draw.Tiles{Rows: rows, Cols: cols, PadX: pad + lab, PadY: pad / 2}
+	inner := draw.Crop(area, lab, 0, 0, 0)
+	var labels []string
+	for _, row := range f.panels {
+		for _, p := range row {
+			if p != nil {
+				labels = append(labels, p.Y.Label.Text)
+				p.Y.Label.Text = ""
+			}
+		}
+	}
+	aligned := plot.Align(f.panels, tiles, inner)
+	k := 0
 	for i, row := range f.panels {
 		for j, p := range row {
-			if p != nil {
-				drawPanel(p, tiles.At(area, j, i))
+			if p == nil {
+				continue
 			}
+			if labels[k] != "" {
+				sty := p.Y.Label.TextStyle
+				sty.Rotation += math.Pi / 2
+				sty.XAlign, sty.YAlign = draw.XCenter, draw.YTop
+				t := tiles.At(inner, j, i)
+				dc.FillText(sty, vg.Point{X: t.Min.X - lab, Y: (t.Min.Y + t.Max.Y) / 2}, labels[k])
+			}
+			p.Draw(aligned[i][j])
+			p.Y.Label.Text = labels[k]
+			k++
 		}
 	}
 }

@@ -11,6 +11,10 @@ import (
 	"strings"
 	"testing"
 
+	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
+	"gonum.org/v1/plot/vg/recorder"
+
 	"riskgrid/runner"
 )
 
@@ -486,5 +490,32 @@ func TestZeroStartAxisSpreadsSmallValues(t *testing.T) {
 	g2 := newGeometry(r2)
 	if got := newPanel(g2, yScale{}, "risk").X.Scale.Normalize(0, 1000, 1); !g2.log1pX || math.Abs(got-math.Log(2)/math.Log(1001)) > 1e-12 {
 		t.Errorf("steps axis at 1: %v, want log(2)/log(1001)", got)
+	}
+}
+
+// TestSplitPanelsAligned: the panels of a split figure share the x range,
+// so one grid value must sit at one horizontal place in every panel of a
+// column, however wide each panel's y tick labels are (a panel up to 1e5
+// beside one up to 2 put p = 10 some 20 px apart in the teacher example).
+func TestSplitPanelsAligned(t *testing.T) {
+	r := synthetic()
+	f := splitFigure(r, newGeometry(r), curveSet{title: "all models", curves: []int{0, 1}, keys: []string{"min-norm", "ridge"}})
+	if len(f.panels) != 2 {
+		t.Fatalf("%d panel rows, want 2", len(f.panels))
+	}
+	var rec recorder.Canvas
+	f.draw(draw.NewCanvas(&rec, f.w, f.h))
+	// The x tick label "20" once per panel (no y tick reads 20 here).
+	var xs []vg.Length
+	for _, a := range rec.Actions {
+		if s, ok := a.(*recorder.FillString); ok && s.String == "20" {
+			xs = append(xs, s.Point.X)
+		}
+	}
+	if len(xs) != 2 {
+		t.Fatalf("tick label 20 drawn %d times, want once per panel", len(xs))
+	}
+	if d := xs[0] - xs[1]; d > 0.01 || d < -0.01 {
+		t.Errorf("x = 20 at %v in one panel and %v in the other; want the panels aligned", xs[0], xs[1])
 	}
 }
