@@ -574,11 +574,15 @@ func (f *heatFigure) threshold() ([][2]float64, bool) {
 	if len(pts) < 2 {
 		return nil, false
 	}
-	// Run on to the edge of the map, half a row past the end rows, along
-	// the first and last segments.
+	// Run on to the border of the map along the first and last segments:
+	// to its bottom and top edges, or out through a side first (a row
+	// whose crossing lies outside the columns has no point of its own).
 	cols := float64(len(g.inner)) - 0.5
 	extend := func(a, b [2]float64) [2]float64 {
-		edge := b[1] + 0.5*math.Copysign(1, b[1]-a[1])
+		edge := -0.5
+		if b[1] > a[1] {
+			edge = float64(len(g.outer)) - 0.5
+		}
 		x := b[0] + (edge-b[1])*(b[0]-a[0])/(b[1]-a[1])
 		if x < -0.5 || x > cols { // leaves through a side first
 			side := math.Max(-0.5, math.Min(cols, x))
@@ -586,12 +590,8 @@ func (f *heatFigure) threshold() ([][2]float64, bool) {
 		}
 		return [2]float64{x, edge}
 	}
-	if pts[0][1] == 0 {
-		pts = append([][2]float64{extend(pts[1], pts[0])}, pts...)
-	}
-	if pts[len(pts)-1][1] == float64(len(g.outer)-1) {
-		pts = append(pts, extend(pts[len(pts)-2], pts[len(pts)-1]))
-	}
+	pts = append([][2]float64{extend(pts[1], pts[0])}, pts...)
+	pts = append(pts, extend(pts[len(pts)-2], pts[len(pts)-1]))
 	return pts, true
 }
 

@@ -260,3 +260,33 @@ func TestHeatThresholdIntercept(t *testing.T) {
 		t.Errorf("caption of a model with an intercept %q; want the threshold p + 1 = n", c)
 	}
 }
+
+// TestHeatThresholdReachesEdges: the threshold line runs on to the edges of
+// the map even where a row's crossing lies outside the columns (with an
+// intercept, n = 10 against p from 10 up crosses at p = 9): it leaves the
+// first and last segments through the map's border, never stops inside.
+func TestHeatThresholdReachesEdges(t *testing.T) {
+	r := thresholdResult()
+	one := r.Models[:len(r.Models)/2] // the n = 50 slice of every model
+	var ms []runner.ModelResult
+	for _, n := range []float64{10, 50, 100} {
+		for _, m := range one {
+			m.Outer = &n
+			ms = append(ms, m)
+		}
+	}
+	r.Models = ms
+	g := heatGrids(r)[0] // p = 10, 40, 50, 60, 200; n = 10, 50, 100
+	r.SpecTOML += "\n[[model]]\nlabel = \"" + g.label + "\"\nintercept = true\n"
+	pts, ok := (&heatFigure{r: r, g: g}).threshold()
+	if !ok {
+		t.Fatal("no threshold line")
+	}
+	onBorder := func(p [2]float64) bool {
+		const e = 1e-9
+		return math.Abs(p[0]+0.5) < e || math.Abs(p[0]-4.5) < e || math.Abs(p[1]+0.5) < e || math.Abs(p[1]-2.5) < e
+	}
+	if first, last := pts[0], pts[len(pts)-1]; !onBorder(first) || !onBorder(last) {
+		t.Errorf("line from %v to %v; want both ends on the map's border", first, last)
+	}
+}
