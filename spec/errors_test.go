@@ -63,12 +63,7 @@ func TestParseErrors(t *testing.T) {
 	ntGrid := "[grid]\nparam = \"n_train\"\nvalues = [10, 20]\n"
 	genNoN := "[data]\nsource = \"linear-gaussian\"\ndim = 50\nnoise = { sd = 0.5 }\n"
 	gen := func(extra string) string { return dataOK + extra + "\n" }
-	tests := []struct {
-		name string
-		in   pieces
-		key  string
-		want string // part of the message: what is wrong and what is accepted
-	}{
+	tests := []errorCase{
 		// TOML syntax and repeated keys.
 		{"syntax", pieces{top: "name = \"t #<\n"}, "name", "TOML syntax"},
 		{"duplicate key", pieces{data: gen("n_train = 30 #<")}, "data.n_train", "more than one value for this key"},
@@ -207,29 +202,7 @@ func TestParseErrors(t *testing.T) {
 		{"tables style type", pieces{seeds: seedsOK + "[tables]\nse_style = 1 #<\n"}, "tables.se_style", "has type integer (accepted: a string)"},
 		{"tables not a table", pieces{top: "name = \"t\"\ntables = \"plus-minus\" #<\n"}, "tables", "has type string (accepted: a table"},
 	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			src := tc.in.src()
-			wantLine := markedLine(src)
-			s, err := Parse("specs/x.toml", []byte(src))
-			if err == nil {
-				t.Fatalf("Parse() = %+v, nil; want an error at line %d key %s\n%s", s, wantLine, tc.key, src)
-			}
-			var e *Error
-			if !errors.As(err, &e) {
-				t.Fatalf("Parse() error %T %v, want *spec.Error", err, err)
-			}
-			if e.File != "specs/x.toml" || e.Line != wantLine || e.Key != tc.key {
-				t.Errorf("Parse() error at %s:%d key %q, want specs/x.toml:%d key %q\nerror: %v\n%s", e.File, e.Line, e.Key, wantLine, tc.key, err, src)
-			}
-			if !strings.Contains(e.Msg, tc.want) {
-				t.Errorf("Parse() message %q, want it to contain %q", e.Msg, tc.want)
-			}
-			if !strings.Contains(e.Msg, "accepted") && !strings.Contains(e.Msg, "known") && !strings.Contains(e.Msg, "keys for it") && !strings.Contains(e.Msg, "TOML syntax") {
-				t.Errorf("Parse() message %q does not say what is accepted", e.Msg)
-			}
-		})
-	}
+	checkErrorCases(t, tests)
 }
 
 func TestSyntaxErrorShowsCaret(t *testing.T) {
@@ -262,5 +235,44 @@ func TestErrorFormat(t *testing.T) {
 		if got := tc.e.Error(); got != tc.want {
 			t.Errorf("Error() = %q, want %q", got, tc.want)
 		}
+	}
+}
+
+// errorCase is a spec that must fail to parse: at the line marked "#<" in
+// its source, with key, and a message containing want (what is wrong and
+// what is accepted).
+type errorCase struct {
+	name string
+	in   pieces
+	key  string
+	want string
+}
+
+// checkErrorCases parses each case and checks the error's file, line, key
+// and message, and that the message says what is accepted.
+func checkErrorCases(t *testing.T, tests []errorCase) {
+	t.Helper()
+	for _, tc := range tests {
+		t.Run(tc.name, func(t *testing.T) {
+			src := tc.in.src()
+			wantLine := markedLine(src)
+			s, err := Parse("specs/x.toml", []byte(src))
+			if err == nil {
+				t.Fatalf("Parse() = %+v, nil; want an error at line %d key %s\n%s", s, wantLine, tc.key, src)
+			}
+			var e *Error
+			if !errors.As(err, &e) {
+				t.Fatalf("Parse() error %T %v, want *spec.Error", err, err)
+			}
+			if e.File != "specs/x.toml" || e.Line != wantLine || e.Key != tc.key {
+				t.Errorf("Parse() error at %s:%d key %q, want specs/x.toml:%d key %q\nerror: %v\n%s", e.File, e.Line, e.Key, wantLine, tc.key, err, src)
+			}
+			if !strings.Contains(e.Msg, tc.want) {
+				t.Errorf("Parse() message %q, want it to contain %q", e.Msg, tc.want)
+			}
+			if !strings.Contains(e.Msg, "accepted") && !strings.Contains(e.Msg, "known") && !strings.Contains(e.Msg, "keys for it") && !strings.Contains(e.Msg, "TOML syntax") {
+				t.Errorf("Parse() message %q does not say what is accepted", e.Msg)
+			}
+		})
 	}
 }

@@ -1,7 +1,6 @@
 package spec
 
 import (
-	"errors"
 	"reflect"
 	"strings"
 	"testing"
@@ -156,12 +155,7 @@ func TestNonlinearErrors(t *testing.T) {
 		return "[data]\nsource = \"teacher\"\nn_train = 20\nnoise = { sd = 0.5 }\n" + lines + "\n"
 	}
 	relu := "teacher = { kind = \"single-index\", link = \"relu\" }\n"
-	tests := []struct {
-		name string
-		in   pieces
-		key  string
-		want string
-	}{
+	tests := []errorCase{
 		{"curve dim", pieces{data: curve(sine + "dim = 2 #<"), grid: oneFeat}, "data.dim", `not a key of source "curve" (keys for it: source, n_train, n_test, inputs, shape, noise, corrupt)`},
 		{"curve truth", pieces{data: curve(sine + "truth = \"fixed\" #<"), grid: oneFeat}, "data.truth", `not a key of source "curve"`},
 		{"curve no shape", pieces{data: "[data] #<\nsource = \"curve\"\nn_train = 20\nnoise = { sd = 0.5 }\n", grid: oneFeat}, "data.shape", "required key is missing"},
@@ -200,24 +194,5 @@ func TestNonlinearErrors(t *testing.T) {
 		{"teacher n_test", pieces{data: teacher(relu + "dim = 3\nn_test = 0 #<")}, "data.n_test", "got 0 (accepted: an integer ≥ 2"},
 		{"shape on teacher", pieces{data: teacher(relu + "dim = 3\nshape = { kind = \"sine\", frequency = 1 } #<")}, "data.shape", `not a key of source "teacher"`},
 	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			src := tc.in.src()
-			wantLine := markedLine(src)
-			s, err := Parse("specs/x.toml", []byte(src))
-			if err == nil {
-				t.Fatalf("Parse() = %+v, nil; want an error at line %d key %s\n%s", s, wantLine, tc.key, src)
-			}
-			var e *Error
-			if !errors.As(err, &e) {
-				t.Fatalf("Parse() error %T %v, want *spec.Error", err, err)
-			}
-			if e.File != "specs/x.toml" || e.Line != wantLine || e.Key != tc.key {
-				t.Errorf("Parse() error at %s:%d key %q, want specs/x.toml:%d key %q\nerror: %v\n%s", e.File, e.Line, e.Key, wantLine, tc.key, err, src)
-			}
-			if !strings.Contains(e.Msg, tc.want) {
-				t.Errorf("Parse() message %q, want it to contain %q", e.Msg, tc.want)
-			}
-		})
-	}
+	checkErrorCases(t, tests)
 }

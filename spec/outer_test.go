@@ -43,12 +43,7 @@ func TestOuterResolved(t *testing.T) {
 // one marked "#<") and the key, and says what is accepted.
 func TestOuterErrors(t *testing.T) {
 	outer := func(body string) string { return featGrid + "[grid.outer]\n" + body }
-	tests := []struct {
-		name string
-		in   pieces
-		key  string
-		want string
-	}{
+	tests := []errorCase{
 		{"outer not a table", pieces{grid: featGrid + "outer = \"n_train\" #<\n"}, "grid.outer",
 			"has type string (accepted: a table, [grid.outer] or outer = { … })"},
 		{"outer unknown key", pieces{data: genNoNTrain, grid: outer("param = \"n_train\"\nvalues = [10]\nstep = 2 #<\n")}, "grid.outer.step",
@@ -94,26 +89,7 @@ func TestOuterErrors(t *testing.T) {
 		{"inner features above dim", pieces{data: genNoNTrain, grid: "[grid]\nparam = \"features\"\nvalues = [10, 60] #<\n[grid.outer]\nparam = \"n_train\"\nvalues = [10]\n"}, "grid.values",
 			"60 features exceed dim = 50"},
 	}
-	for _, tc := range tests {
-		t.Run(tc.name, func(t *testing.T) {
-			src := tc.in.src()
-			wantLine := markedLine(src)
-			s, err := Parse("specs/x.toml", []byte(src))
-			if err == nil {
-				t.Fatalf("Parse() = %+v, nil; want an error at line %d key %s\n%s", s, wantLine, tc.key, src)
-			}
-			var e *Error
-			if !errors.As(err, &e) {
-				t.Fatalf("Parse() error %T %v, want *spec.Error", err, err)
-			}
-			if e.File != "specs/x.toml" || e.Line != wantLine || e.Key != tc.key {
-				t.Errorf("Parse() error at %s:%d key %q, want specs/x.toml:%d key %q\nerror: %v\n%s", e.File, e.Line, e.Key, wantLine, tc.key, err, src)
-			}
-			if !strings.Contains(e.Msg, tc.want) {
-				t.Errorf("Parse() message %q, want it to contain %q", e.Msg, tc.want)
-			}
-		})
-	}
+	checkErrorCases(t, tests)
 }
 
 func TestOuterCSVAbovePool(t *testing.T) {
