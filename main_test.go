@@ -111,8 +111,10 @@ func TestBadSpecExits2AndWritesNothing(t *testing.T) {
 	}
 }
 
-func TestBadDataFileExits2(t *testing.T) {
-	dir := t.TempDir()
+// badCSVSpec writes into dir a spec whose data file has a non-numeric cell
+// at row 3, column b, and returns its path.
+func badCSVSpec(t *testing.T, dir string) string {
+	t.Helper()
 	writeSpec(t, dir, "d.csv", "a,b,y\n1,2,3\n4,x,6\n7,8,9\n1,1,1\n2,2,2\n")
 	sp := writeSpec(t, dir, "csv.toml", `name = "csv"
 [data]
@@ -129,6 +131,12 @@ values = [1, 2]
 [seeds]
 count = 2
 `)
+	return sp
+}
+
+func TestBadDataFileExits2(t *testing.T) {
+	dir := t.TempDir()
+	sp := badCSVSpec(t, dir)
 	status, _, stderr := runCLI("run", sp, "-o", filepath.Join(dir, "out"))
 	if status != exitBadInput || !strings.Contains(stderr, "d.csv:3") || !strings.Contains(stderr, `"b"`) {
 		t.Errorf("status %d, stderr %q; want 2 and the file, row 3 and column b", status, stderr)
@@ -339,22 +347,7 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 // nothing (README: run "checks every spec first"; check "validates a spec").
 func TestBadDataFileCaughtBeforeAnyFit(t *testing.T) {
 	dir := t.TempDir()
-	writeSpec(t, dir, "d.csv", "a,b,y\n1,2,3\n4,x,6\n7,8,9\n1,1,1\n2,2,2\n")
-	bad := writeSpec(t, dir, "csv.toml", `name = "csv"
-[data]
-source = "csv"
-file = "d.csv"
-target = "y"
-n_test = 2
-n_train = 2
-[[model]]
-family = "least-squares"
-[grid]
-param = "features"
-values = [1, 2]
-[seeds]
-count = 2
-`)
+	bad := badCSVSpec(t, dir)
 	if status, _, stderr := runCLI("check", bad); status != exitBadInput || !strings.Contains(stderr, "d.csv:3") {
 		t.Errorf("check of a spec with a bad data file: status %d, stderr %q; want 2 and the file and row", status, stderr)
 	}
