@@ -46,11 +46,7 @@ func runDiffSpec(t *testing.T, dir, tag, about, lambda, start string) string {
 	if status, _, stderr := runCLI("run", sp, "-o", out, "-j", "2"); status != exitOK {
 		t.Fatalf("run %s: %s", tag, stderr)
 	}
-	m, _ := filepath.Glob(filepath.Join(out, "pair-*"))
-	if len(m) != 1 {
-		t.Fatalf("result folders %v", m)
-	}
-	return m[0]
+	return resultFolder(t, out, "pair")
 }
 
 func loadDiff(t *testing.T, a, b string) *reports.Difference {

@@ -58,11 +58,7 @@ func TestTwoAxisRun(t *testing.T) {
 	if !strings.Contains(stdout, "least-squares [least-squares], n_train = 10: grid features") {
 		t.Errorf("stdout lacks the n_train = 10 block:\n%s", stdout)
 	}
-	matches, _ := filepath.Glob(filepath.Join(out, "tiny-2d-*"))
-	if len(matches) != 1 {
-		t.Fatalf("result folders %v, want one tiny-2d-<hash>", matches)
-	}
-	res := matches[0]
+	res := resultFolder(t, out, "tiny-2d")
 	b, _ := os.ReadFile(filepath.Join(res, "result.json"))
 	var r runner.Result
 	if err := json.Unmarshal(b, &r); err != nil || r.OuterParam != "n_train" || len(r.Models) != 2 || *r.Models[1].Outer != 20 {
@@ -108,11 +104,7 @@ func TestTwoAxisVerify(t *testing.T) {
 	if status, _, stderr := runCLI("run", sp, "-o", out); status != exitOK {
 		t.Fatalf("run: status %d, %s", status, stderr)
 	}
-	matches, _ := filepath.Glob(filepath.Join(out, "tiny-2d-*"))
-	if len(matches) != 1 {
-		t.Fatalf("result folders %v", matches)
-	}
-	res := matches[0]
+	res := resultFolder(t, out, "tiny-2d")
 	if status, stdout, stderr := runCLI("verify", res); status != exitOK {
 		t.Fatalf("verify of an unchanged two-axis result: status %d\n%s\n%s", status, stdout, stderr)
 	}

@@ -54,11 +54,7 @@ func TestRunWritesArtifactsAndCaches(t *testing.T) {
 	if !strings.Contains(stdout, "least-squares") || !strings.Contains(stderr, "12 cells computed, 0 from the cache") {
 		t.Errorf("run: stdout %q\nstderr %q", stdout, stderr)
 	}
-	matches, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
-	if len(matches) != 1 {
-		t.Fatalf("result folders %v, want one tiny-<hash>", matches)
-	}
-	res := matches[0]
+	res := resultFolder(t, out, "tiny")
 	for _, f := range []string{"result.json", "sums.json", "timing.json", "table.md", "table.csv", "table.tex"} {
 		if _, err := os.Stat(filepath.Join(res, f)); err != nil {
 			t.Errorf("missing artifact: %v", err)
@@ -132,6 +128,16 @@ values = [1, 2]
 count = 2
 `)
 	return sp
+}
+
+// resultFolder returns the one result folder of spec name under out.
+func resultFolder(t *testing.T, out, name string) string {
+	t.Helper()
+	m, _ := filepath.Glob(filepath.Join(out, name+"-????????????"))
+	if len(m) != 1 {
+		t.Fatalf("result folders %v, want one %s-<hash12>", m, name)
+	}
+	return m[0]
 }
 
 func TestBadDataFileExits2(t *testing.T) {
@@ -304,11 +310,8 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 	if status, _, stderr := runCLI("run", sp, "-o", out); status != exitOK {
 		t.Fatalf("run: status %d, stderr %s", status, stderr)
 	}
-	matches, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
-	if len(matches) != 1 {
-		t.Fatalf("result folders %v, want one", matches)
-	}
-	figs := filepath.Join(matches[0], "figures")
+	res := resultFolder(t, out, "tiny")
+	figs := filepath.Join(res, "figures")
 	var names []string
 	for _, ext := range []string{"png", "svg"} {
 		for _, f := range []string{"risk-1-least-squares", "split-1-least-squares"} {
@@ -320,7 +323,7 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 			t.Errorf("run: figure %s missing or empty (%v)", n, err)
 		}
 	}
-	page, err := os.ReadFile(filepath.Join(matches[0], "report.md"))
+	page, err := os.ReadFile(filepath.Join(res, "report.md"))
 	if err != nil {
 		t.Fatalf("run wrote no report.md: %v", err)
 	}
@@ -331,8 +334,8 @@ func TestRunAndReportWriteFigures(t *testing.T) {
 	}
 	// report redraws them from result.json.
 	os.RemoveAll(figs)
-	os.Remove(filepath.Join(matches[0], "report.md"))
-	if status, _, stderr := runCLI("report", matches[0]); status != exitOK {
+	os.Remove(filepath.Join(res, "report.md"))
+	if status, _, stderr := runCLI("report", res); status != exitOK {
 		t.Fatalf("report: status %d, stderr %s", status, stderr)
 	}
 	for _, n := range append(names, "../report.md") {

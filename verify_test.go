@@ -22,11 +22,7 @@ func runTiny(t *testing.T, dir string) (specPath, resDir string) {
 	if status, _, stderr := runCLI("run", specPath, "-o", out, "-j", "2"); status != exitOK {
 		t.Fatalf("run: status %d: %s", status, stderr)
 	}
-	m, _ := filepath.Glob(filepath.Join(out, "tiny-*"))
-	if len(m) != 1 {
-		t.Fatalf("result folders %v", m)
-	}
-	return specPath, m[0]
+	return specPath, resultFolder(t, out, "tiny")
 }
 
 // snapshot lists every file under root with its size and modification time.
