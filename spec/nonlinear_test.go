@@ -69,20 +69,7 @@ func TestNonlinearRoundTrip(t *testing.T) {
 				data = strings.Replace(data, "n_train = 30\n", "", 1)
 			}
 			s := mustParse(t, pieces{data: data, grid: grid}.src())
-			c := s.Canonical()
-			back, err := Parse("t.toml", []byte(c))
-			if err != nil {
-				t.Fatalf("Parse(Canonical()) error %v\n%s", err, c)
-			}
-			if !reflect.DeepEqual(back, s) {
-				t.Errorf("Parse(Canonical()) =\n%+v\nwant\n%+v\ncanonical:\n%s", back, s, c)
-			}
-			if c2 := back.Canonical(); c2 != c {
-				t.Errorf("Canonical() is not a fixed point:\n%s\nthen\n%s", c, c2)
-			}
-			if back.Hash() != s.Hash() || back.DataKey() != s.DataKey() {
-				t.Errorf("hashes change over the round trip")
-			}
+			checkRoundTrip(t, s)
 		})
 	}
 }

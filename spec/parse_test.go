@@ -207,24 +207,31 @@ var roundTripSpecs = map[string]string{
 	}.src(),
 }
 
+// checkRoundTrip checks that Parse(Canonical()) gives back s, that the
+// canonical form is a fixed point and that the hashes survive.
+func checkRoundTrip(t *testing.T, s *Spec) {
+	t.Helper()
+	c := s.Canonical()
+	back, err := Parse("t.toml", []byte(c))
+	if err != nil {
+		t.Fatalf("Parse(Canonical()) error %v\n%s", err, c)
+	}
+	if !reflect.DeepEqual(back, s) {
+		t.Errorf("Parse(Canonical()) =\n%+v\nwant\n%+v\ncanonical:\n%s", back, s, c)
+	}
+	if c2 := back.Canonical(); c2 != c {
+		t.Errorf("Canonical() is not a fixed point:\n%s\nthen\n%s", c, c2)
+	}
+	if back.Hash() != s.Hash() || back.DataKey() != s.DataKey() {
+		t.Errorf("hashes change over the round trip")
+	}
+}
+
 func TestCanonicalRoundTrip(t *testing.T) {
 	for name, src := range roundTripSpecs {
 		t.Run(name, func(t *testing.T) {
 			s := mustParse(t, src)
-			c := s.Canonical()
-			back, err := Parse("t.toml", []byte(c))
-			if err != nil {
-				t.Fatalf("Parse(Canonical()) error %v\n%s", err, c)
-			}
-			if !reflect.DeepEqual(back, s) {
-				t.Errorf("Parse(Canonical()) =\n%+v\nwant\n%+v\ncanonical:\n%s", back, s, c)
-			}
-			if c2 := back.Canonical(); c2 != c {
-				t.Errorf("Canonical() is not a fixed point:\n%s\nthen\n%s", c, c2)
-			}
-			if back.Hash() != s.Hash() || back.DataKey() != s.DataKey() {
-				t.Errorf("hashes change over the round trip")
-			}
+			checkRoundTrip(t, s)
 		})
 	}
 }
