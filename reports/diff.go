@@ -342,7 +342,7 @@ func (d *Difference) point(label string, pa, pb *runner.Point, psa, psb *runner.
 				for i := range xa {
 					diff[i] = xb[i] - xa[i]
 				}
-				_, se := meanSEOf(diff)
+				_, se := runner.MeanSE(diff)
 				r.SE, r.Basis, r.Seeds, r.DF = se, BasisPaired, len(xa), float64(len(xa)-1)
 				d.Paired = true
 			}
@@ -417,21 +417,6 @@ func welch(a, b, na, nb float64) float64 {
 		return na
 	}
 	return (a2 + b2) * (a2 + b2) / (a2*a2/na + b2*b2/nb)
-}
-
-// meanSEOf returns the mean of xs and its standard error sd/√S (as the
-// runner computes them).
-func meanSEOf(xs []float64) (mean, se float64) {
-	n := float64(len(xs))
-	for _, x := range xs {
-		mean += x
-	}
-	mean /= n
-	var ss float64
-	for _, x := range xs {
-		ss += (x - mean) * (x - mean)
-	}
-	return mean, math.Sqrt(ss / (n - 1) / n)
 }
 
 // FalseFlagBound is the Bonferroni bound on the expected number of false

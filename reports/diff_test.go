@@ -136,11 +136,10 @@ func TestDiffPaired(t *testing.T) {
 		t.Fatal(err)
 	}
 	r := rowOf(t, d, "ridge λ=0.1", 10, "risk")
-	// The paired SE of the shifts 0.01 + 1e-4·(0,1,2,0,1,2,0,1,2,0):
-	// sd = 1e-4·√(0.9889) ... computed here directly.
-	shifts := []float64{0, 1, 2, 0, 1, 2, 0, 1, 2, 0}
-	_, want := meanSEOf(shifts)
-	want *= 1e-4
+	// The paired SE of the shifts 0.01 + 1e-4·(0,1,2,0,1,2,0,1,2,0), worked
+	// by hand: mean 0.9, Σ(x − x̄)² = 4·0.81 + 3·0.01 + 3·1.21 = 6.9, so
+	// SE = 1e-4·√(6.9/9/10).
+	want := 1e-4 * math.Sqrt(6.9/9/10)
 	if r.Basis != BasisPaired || r.Seeds != 10 || math.Abs(r.SE-want) > 1e-9*want {
 		t.Fatalf("row %+v: want paired over 10 seeds, SE %v", r, want)
 	}

@@ -104,7 +104,7 @@ func TestNestedSplitUnbiased(t *testing.T) {
 		xs   []float64
 		want float64
 	}{{"bias²", b2, mu2}, {"σ_d²", vd, sd * sd}, {"σ_m²", vm, sm * sm}} {
-		m, se := meanSE(c.xs)
+		m, se := MeanSE(c.xs)
 		if math.Abs(m-c.want) > 4*se {
 			t.Errorf("mean %s over %d replicates = %.4f ± %.4f, want %.4f (4 SE)", c.name, reps, m, se, c.want)
 		}

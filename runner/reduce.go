@@ -263,7 +263,7 @@ func gaps(risk, train []float64) []float64 {
 }
 
 func est(xs []float64) Estimate {
-	m, se := meanSE(xs)
+	m, se := MeanSE(xs)
 	return Estimate{Mean: Num(m), SE: Num(se)}
 }
 
@@ -327,6 +327,6 @@ func mcSE(sumSqIn []float64, seeds int) float64 {
 	for j, x := range sumSqIn {
 		d[j] = x / float64(seeds)
 	}
-	_, se := meanSE(d)
+	_, se := MeanSE(d)
 	return se
 }

@@ -139,7 +139,7 @@ func nestedSplit(sp *split, modelVar []float64, M int) nested {
 		return out
 	}
 	m := float64(M)
-	out.model, out.modelSE = meanSE(modelVar)
+	out.model, out.modelSE = MeanSE(modelVar)
 	out.data = vb - out.model/m
 	out.variance = vb + out.model*(1-1/m)
 	if looV == nil {

@@ -4,12 +4,13 @@ import (
 	"math"
 )
 
-// meanSE returns the sample mean of xs and its standard error
+// MeanSE returns the sample mean of xs and its standard error
 //
 //	se = sqrt( (1/(S−1)) Σ (x_s − x̄)² / S ),
 //
-// NaN for the SE when fewer than two values are given.
-func meanSE(xs []float64) (mean, se float64) {
+// NaN for the SE when fewer than two values are given (and for the mean
+// when none are). Every mean ± SE of a Result is computed by it.
+func MeanSE(xs []float64) (mean, se float64) {
 	n := float64(len(xs))
 	if len(xs) == 0 {
 		return math.NaN(), math.NaN()

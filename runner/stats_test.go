@@ -24,13 +24,13 @@ func TestQuantile(t *testing.T) {
 // meanSE against gonum's stat package (a reference library).
 func TestMeanSE(t *testing.T) {
 	xs := []float64{0.3, 1.7, 2.2, -0.4, 5.1, 3.3}
-	m, se := meanSE(xs)
+	m, se := MeanSE(xs)
 	wm, wsd := stat.MeanStdDev(xs, nil)
 	wse := stat.StdErr(wsd, float64(len(xs)))
 	if !scalar.EqualWithinAbsOrRel(m, wm, 1e-15, 1e-15) || !scalar.EqualWithinAbsOrRel(se, wse, 1e-15, 1e-15) {
 		t.Errorf("meanSE = (%v, %v), gonum stat = (%v, %v)", m, se, wm, wse)
 	}
-	if _, se := meanSE([]float64{1}); !math.IsNaN(se) {
+	if _, se := MeanSE([]float64{1}); !math.IsNaN(se) {
 		t.Errorf("meanSE of one value: se = %v, want NaN", se)
 	}
 }

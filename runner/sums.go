@@ -86,7 +86,7 @@ func (p *PointSums) Split(w []float64, modelSeeds int) (bias2, variance float64)
 	}
 	var within float64 // (1 − 1/M) σ̂_m²
 	if len(p.ModelVar) > 0 && modelSeeds > 1 {
-		sm, _ := meanSE(p.ModelVar)
+		sm, _ := MeanSE(p.ModelVar)
 		within = (1 - 1/float64(modelSeeds)) * sm
 	}
 	vb := (p.SumSqDev - s*b0 - s*within) / (s - 1)

@@ -35,7 +35,7 @@ func TestSumsMergeShards(t *testing.T) {
 		for pi, ps := range m.Points {
 			want := full.Result.Models[mi].Points[pi]
 			b2, v := ps.Split(a.Sums.Weights, a.Sums.ModelSeeds)
-			mean, _ := meanSE(ps.Risk)
+			mean, _ := MeanSE(ps.Risk)
 			// The one-pass sums lose ~⟨ē,ē⟩/V̂·eps to cancellation; 1e-9 leaves
 			// room for ratios up to 1e6.
 			const tol = 1e-9
