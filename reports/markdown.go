@@ -64,6 +64,15 @@ func Markdown(w io.Writer, r *runner.Result) error {
 // longer than the longest run inside s, padded with spaces when s starts or
 // ends with a backtick (CommonMark 0.31, §6.1 Code spans).
 func codeSpan(s string) string {
+	fence := strings.Repeat("`", longestBackticks(s)+1)
+	if strings.HasPrefix(s, "`") || strings.HasSuffix(s, "`") {
+		s = " " + s + " "
+	}
+	return fence + s + fence
+}
+
+// longestBackticks is the length of the longest run of backticks in s.
+func longestBackticks(s string) int {
 	longest, run := 0, 0
 	for _, c := range s {
 		if c == '`' {
@@ -73,9 +82,5 @@ func codeSpan(s string) string {
 			run = 0
 		}
 	}
-	fence := strings.Repeat("`", longest+1)
-	if strings.HasPrefix(s, "`") || strings.HasSuffix(s, "`") {
-		s = " " + s + " "
-	}
-	return fence + s + fence
+	return longest
 }

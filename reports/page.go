@@ -174,16 +174,7 @@ func theoryAgreement(r *runner.Result, m *runner.ModelResult) string {
 // codeFence returns a backtick fence longer than any run of backticks in s
 // (at least three; CommonMark 0.31, §4.5 Fenced code blocks).
 func codeFence(s string) string {
-	longest, run := 0, 0
-	for _, c := range s {
-		if c == '`' {
-			run++
-			longest = max(longest, run)
-		} else {
-			run = 0
-		}
-	}
-	return strings.Repeat("`", max(3, longest+1))
+	return strings.Repeat("`", max(3, longestBackticks(s)+1))
 }
 
 // escapeCell makes s safe inside a Markdown table cell.
