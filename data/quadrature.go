@@ -186,14 +186,7 @@ const gaussianRange = 8
 // to h·φ plus the truncation error (gaussianRange).
 func normalRule(m int, mu, sd float64, cuts []float64) (x, w []float64) {
 	lo, hi := mu-gaussianRange*sd, mu+gaussianRange*sd
-	breaks := []float64{lo}
-	for _, c := range cuts {
-		if c > lo && c < hi {
-			breaks = append(breaks, c)
-		}
-	}
-	breaks = append(breaks, hi)
-	x, w = compositeLegendre(m, breaks)
+	x, w = compositeLegendre(m, breaksIn(lo, hi, cuts))
 	for j := range x {
 		z := (x[j] - mu) / sd
 		w[j] *= math.Exp(-z*z/2) / (sd * math.Sqrt(2*math.Pi))
@@ -202,18 +195,23 @@ func normalRule(m int, mu, sd float64, cuts []float64) (x, w []float64) {
 	return x, w
 }
 
-// uniformRule returns a rule for E h(X), X uniform on [lo, hi], with m
-// nodes: the composite Gauss–Legendre rule (cut at breaks inside the
-// interval), weights divided by hi − lo and normalised to sum to 1.
-func uniformRule(m int, lo, hi float64, cuts []float64) (x, w []float64) {
+// breaksIn returns lo, the cuts strictly inside (lo, hi), and hi: the panel
+// boundaries of a composite rule. cuts must be sorted.
+func breaksIn(lo, hi float64, cuts []float64) []float64 {
 	breaks := []float64{lo}
 	for _, c := range cuts {
 		if c > lo && c < hi {
 			breaks = append(breaks, c)
 		}
 	}
-	breaks = append(breaks, hi)
-	x, w = compositeLegendre(m, breaks)
+	return append(breaks, hi)
+}
+
+// uniformRule returns a rule for E h(X), X uniform on [lo, hi], with m
+// nodes: the composite Gauss–Legendre rule (cut at breaks inside the
+// interval), weights divided by hi − lo and normalised to sum to 1.
+func uniformRule(m int, lo, hi float64, cuts []float64) (x, w []float64) {
+	x, w = compositeLegendre(m, breaksIn(lo, hi, cuts))
 	normalize(w)
 	return x, w
 }

@@ -390,16 +390,7 @@ func (f *heatFigure) draw(dc draw.Canvas) {
 	// Caption, in a strip at the bottom.
 	cs := heatText(8.5, color.Gray{0x30})
 	cs.XAlign, cs.YAlign = draw.XLeft, draw.YBottom
-	lineH := cs.FontExtents().Height * 1.15
-	lines := wrap(cs, f.caption(), full.Size().X-2*pad)
-	capH := vg.Length(len(lines))*lineH + pad
-	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
-	for _, l := range lines {
-		dc.FillText(cs, vg.Point{X: full.Min.X + pad, Y: y}, l)
-		y -= lineH
-	}
-	dc.StrokeLine2(draw.LineStyle{Color: color.Gray{0xb0}, Width: vg.Points(0.5)},
-		full.Min.X+pad, full.Min.Y+capH, full.Max.X-pad, full.Min.Y+capH)
+	capH := drawCaption(dc, cs, wrap(cs, f.caption(), full.Size().X-2*pad))
 
 	// Colour bar on the right, the map in the rest.
 	const barW = 1.25 * vg.Inch

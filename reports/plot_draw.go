@@ -82,19 +82,11 @@ func (f *figure) draw(dc draw.Canvas) {
 
 	// Caption, bottom up: wrapped lines in a strip under a hairline.
 	cs := captionStyle()
-	lineH := cs.FontExtents().Height * 1.15
 	var lines []string
 	for _, para := range f.caption {
 		lines = append(lines, wrap(cs, para, (full.Size().X-2*pad)*(1-slack))...)
 	}
-	capH := vg.Length(len(lines))*lineH + pad
-	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
-	for _, l := range lines {
-		dc.FillText(cs, vg.Point{X: full.Min.X + pad, Y: y}, l)
-		y -= lineH
-	}
-	dc.StrokeLine2(draw.LineStyle{Color: color.Gray{0xb0}, Width: vg.Points(0.5)},
-		full.Min.X+pad, full.Min.Y+capH, full.Max.X-pad, full.Min.Y+capH)
+	capH := drawCaption(dc, cs, lines)
 
 	// Legend column on the right, sized to its longest entry.
 	lr := f.legend.Rectangle(dc)
@@ -167,6 +159,22 @@ func drawPanel(p *plot.Plot, c draw.Canvas) {
 	p.Y.Label.Text = ""
 	defer func() { p.Y.Label.Text = label }()
 	p.Draw(draw.Crop(c, h+vg.Points(5), 0, 0, 0))
+}
+
+// drawCaption writes lines in style cs at the bottom of dc, left-aligned
+// and padded, under a thin rule, and returns the height of the strip.
+func drawCaption(dc draw.Canvas, cs text.Style, lines []string) vg.Length {
+	full := dc.Rectangle
+	lineH := cs.FontExtents().Height * 1.15
+	capH := vg.Length(len(lines))*lineH + pad
+	y := full.Min.Y + capH - pad/2 - cs.FontExtents().Ascent
+	for _, l := range lines {
+		dc.FillText(cs, vg.Point{X: full.Min.X + pad, Y: y}, l)
+		y -= lineH
+	}
+	dc.StrokeLine2(draw.LineStyle{Color: color.Gray{0xb0}, Width: vg.Points(0.5)},
+		full.Min.X+pad, full.Min.Y+capH, full.Max.X-pad, full.Min.Y+capH)
+	return capH
 }
 
 func captionStyle() text.Style {
