@@ -64,8 +64,7 @@ type linearGaussian struct {
 	sqrtSig []float64
 	beta    []float64 // nil when per seed
 	signal  spec.Signal
-	noise   spec.Noise
-	tScale  float64 // 1/sqrt(ν/(ν−2)) for Student-t noise
+	noise   labelNoise
 	prob    *Problem
 }
 
@@ -93,21 +92,11 @@ func newLinearGaussian(s *spec.Spec, key string) (*linearGaussian, error) {
 	if err := checkSignal(dd.Signal, d, bad); err != nil {
 		return nil, err
 	}
-	g := &linearGaussian{key: key, n: dd.NTrain, d: d, signal: dd.Signal, noise: dd.Noise}
-	switch dd.Noise.Kind {
-	case "", spec.NoiseGaussian:
-		g.noise.Kind = spec.NoiseGaussian
-	case spec.NoiseStudentT:
-		if !(dd.Noise.DF > 2) || math.IsInf(dd.Noise.DF, 0) {
-			return nil, bad("noise.df", "df = %v, want a finite number > 2 (so Var ε is finite)", dd.Noise.DF)
-		}
-		g.tScale = 1 / math.Sqrt(dd.Noise.DF/(dd.Noise.DF-2))
-	default:
-		return nil, bad("noise.kind", "unknown noise %q (known: %s, %s)", dd.Noise.Kind, spec.NoiseGaussian, spec.NoiseStudentT)
+	noise, err := newLabelNoise(dd.Noise, bad)
+	if err != nil {
+		return nil, err
 	}
-	if !(dd.Noise.SD >= 0) || math.IsInf(dd.Noise.SD, 0) {
-		return nil, bad("noise.sd", "sd = %v, want a finite number ≥ 0", dd.Noise.SD)
-	}
+	g := &linearGaussian{key: key, n: dd.NTrain, d: d, signal: dd.Signal, noise: noise}
 	var perSeed bool
 	switch dd.Truth {
 	case "", spec.TruthFixed:
@@ -279,8 +268,6 @@ func (g *linearGaussian) Draw(seed uint64) (*Sample, error) {
 	y := make([]float64, n)
 	xs := NewStream(g.key, tagRows, seed)
 	es := NewStream(g.key, tagNoise, seed)
-	sd := g.noise.SD
-	student := g.noise.Kind == spec.NoiseStudentT
 	sq := g.sqrtSig[:d]
 	beta = beta[:d]
 	for i := range n {
@@ -292,14 +279,7 @@ func (g *linearGaussian) Draw(seed uint64) (*Sample, error) {
 			row[j] = x
 			dot += x * beta[j]
 		}
-		if sd > 0 {
-			if student {
-				dot += sd * g.tScale * es.StudentT(g.noise.DF)
-			} else {
-				dot += sd * es.Normal()
-			}
-		}
-		y[i] = dot
+		y[i] = dot + g.noise.draw(es)
 	}
 	return &Sample{X: X, Y: y, Beta: beta}, nil
 }
