@@ -382,7 +382,11 @@ func TestRandomFeaturesBadInput(t *testing.T) {
 // the KernelRidge family (itself checked against scikit-learn). Measured
 // relative prediction errors: 0.028 at N = 2500, 0.0058 at N = 40000 (the
 // 1/√N rate predicts a factor 4); the check asks < 0.02 at N = 40000 and a
-// decrease by at least 2×.
+// decrease by at least 2×. The norm and df at N = 40000 carry the same
+// Monte Carlo error: the norm is held to 4/√N = 0.02 relative (four times
+// the rate's unit, as the predictions' measured constant is about 1.2;
+// measured 0.004), and df to 0.05 absolute, tighter than 4/√N of this
+// df (≈ 6.9, so 0.14; measured 0.0035).
 func TestRandomFeaturesKernelRidgeLimit(t *testing.T) {
 	if testing.Short() {
 		t.Skip("40000 features")
@@ -401,12 +405,12 @@ func TestRandomFeaturesKernelRidgeLimit(t *testing.T) {
 		}
 		errs = append(errs, relDist(rf.Pred, kr.Pred))
 		if n == 40000 {
-			if math.Abs(rf.Norm-kr.Norm) > 0.02*kr.Norm || math.Abs(rf.DF-kr.DF) > 0.05 {
+			if tol := 4 / math.Sqrt(float64(n)); math.Abs(rf.Norm-kr.Norm) > tol*kr.Norm || math.Abs(rf.DF-kr.DF) > 0.05 {
 				t.Errorf("N = %d: norm %v, df %v; kernel ridge %v, %v", n, rf.Norm, rf.DF, kr.Norm, kr.DF)
 			}
 		}
 	}
-	t.Logf("relative prediction error against kernel ridge: %.3g at N = 2500, %.3g at N = 40000", errs[0], errs[1])
+	t.Logf("relative prediction error against kernel ridge: %.3g at N = 2500, %.3g at N = 40000; kernel ridge df %.4g, norm %.4g", errs[0], errs[1], kr.DF, kr.Norm)
 	if errs[1] > 0.02 || errs[0] < 2*errs[1] {
 		t.Errorf("relative prediction errors %.3g (N = 2500), %.3g (N = 40000); want the second < 0.02 and at most half the first", errs[0], errs[1])
 	}
