@@ -39,7 +39,8 @@ var _ Fitter = (*Ridge)(nil)
 //     p ≤ m the leading p×p block of XᵀX over the leading columns gives
 //     XpᵀXp + nλI ("cholesky"); for p > m the dual Gram matrix XpXpᵀ + nλI,
 //     updated as columns are added ("gram-cholesky"). Cond is the a-priori
-//     bound ‖A‖₁·√m/(nλ) ≥ κ₁(A) of the factored matrix A when that is at
+//     bound ‖A‖₁·√k/(nλ) ≥ κ₁(A) of the factored matrix A of order k (p
+//     primal, m dual; ‖A⁻¹‖₁ ≤ √k‖A⁻¹‖₂ ≤ √k/(nλ)) when that is at
 //     most 1e5 (see condMax), otherwise LAPACK's 1-norm estimate (dlacn2,
 //     as in dpocon). If the estimate exceeds 1e5 or the factorization
 //     fails, that p is solved by the SVD instead ("svd"). Lambda = 0 runs the LeastSquares path.
