@@ -54,7 +54,7 @@ func (r *run) reduce() (*Result, *Sums, error) {
 			pts[i][j] = &point{sp: newSplit(w)}
 		}
 	}
-	dev := make([]float64, len(w))  // e_sm of one fit
+	var devs [][]float64            // e_sm of the seed's fits, reused
 	mean := make([]float64, len(w)) // ê_s over the seed's model seeds
 	cells := make([]*cell, 0, 1)
 	for pass := 1; pass <= 2; pass++ {
@@ -86,7 +86,11 @@ func (r *run) reduce() (*Result, *Sums, error) {
 					}
 					M := float64(len(cells))
 					clear(mean)
-					for _, c := range cells {
+					for len(devs) < len(cells) {
+						devs = append(devs, make([]float64, len(w)))
+					}
+					for k, c := range cells {
+						dev := devs[k]
 						r.deviation(c, e.Beta, target, dev)
 						for j, x := range dev {
 							mean[j] += x / M
@@ -102,8 +106,7 @@ func (r *run) reduce() (*Result, *Sums, error) {
 					p.sp.add(mean)
 					if len(cells) > 1 {
 						var within float64
-						for _, c := range cells {
-							r.deviation(c, e.Beta, target, dev)
+						for _, dev := range devs[:len(cells)] {
 							for j, x := range dev {
 								u := x - mean[j]
 								within += w[j] * u * u
